@@ -1,0 +1,121 @@
+/**
+ * Builds the per-quantity part of a result (sequence phasors, u2, u0, RMS
+ * magnitudes, the NEMA and IEEE rates) from what a frame carries: full
+ * phasors, or magnitudes only. The scratch buffers belong to the caller (one
+ * set per feeder processor), so the arithmetic itself allocates nothing; only
+ * the result record is new.
+ */
+import { angleDegAt, magnitudeAt } from '../complex/complex.js';
+import type { PhaseTriple, PhasorOut, QuantityResult, VoltageResult } from '../result.js';
+import { fortescueInto } from './fortescue.js';
+import { ieeePvurPercent, nemaLvurPercent, sequenceMagnitudesFromZeroSumInto, u0Percent, u2FromLineMagnitudesPercent, u2Percent } from './unbalance.js';
+
+/**
+ * A sequence component smaller than this fraction of the largest input
+ * magnitude is float noise (≈1e-16 relative) or far below any instrument's
+ * resolution; it is written as [0, 0] so that no meaningless angle is reported.
+ */
+export const NEGLIGIBLE_COMPONENT_REL = 1e-7;
+
+const INV_SQRT3 = 1 / Math.sqrt(3);
+
+export class SequenceScratch {
+  readonly seq = new Float64Array(6);
+  readonly pair = new Float64Array(2);
+}
+
+function component(seq: Float64Array, k: number, floor: number): PhasorOut {
+  const m = magnitudeAt(seq, 2 * k);
+  return m < floor ? [0, 0] : [m, angleDegAt(seq, 2 * k)];
+}
+
+/** Sequence part of a phasor set abc (interleaved rectangular, RMS). */
+export function quantityFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): QuantityResult {
+  fortescueInto(abc, s.seq);
+  const ma = magnitudeAt(abc, 0), mb = magnitudeAt(abc, 2), mc = magnitudeAt(abc, 4);
+  const floor = NEGLIGIBLE_COMPONENT_REL * Math.max(ma, mb, mc);
+  const zero = component(s.seq, 0, floor);
+  const pos = component(s.seq, 1, floor);
+  const neg = component(s.seq, 2, floor);
+  // u2/u0 from the unrounded buffer except where the component was declared negligible.
+  const u2 = pos[0] > 0 ? (neg[0] === 0 ? 0 : u2Percent(s.seq)) : null;
+  const u0 = pos[0] > 0 ? (zero[0] === 0 ? 0 : u0Percent(s.seq)) : null;
+  return { zero, pos, neg, u2, u0, rms: { a: ma, b: mb, c: mc }, thd };
+}
+
+/** Voltage part from line-to-neutral phasors: adds L-L magnitudes and the NEMA/IEEE rates. */
+export function voltageFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): VoltageResult {
+  const q = quantityFromPhasors(abc, s, thd);
+  const ab = Math.hypot(abc[0]! - abc[2]!, abc[1]! - abc[3]!);
+  const bc = Math.hypot(abc[2]! - abc[4]!, abc[3]! - abc[5]!);
+  const ca = Math.hypot(abc[4]! - abc[0]!, abc[5]! - abc[1]!);
+  const rms = q.rms!;
+  return {
+    ...q,
+    rmsLL: { ab, bc, ca },
+    lvur: finiteOrNull(nemaLvurPercent(ab, bc, ca)),
+    pvur: finiteOrNull(ieeePvurPercent(rms.a, rms.b, rms.c)),
+  };
+}
+
+/**
+ * Voltage part from magnitudes only. With line-to-line magnitudes, u2 follows
+ * exactly from the IEC 61000-4-30 β formula and |V1|, |V2| from the triangle
+ * (referred to line-to-neutral, ÷√3); u0 and all angles are unobservable.
+ * With line-to-neutral magnitudes alone no sequence quantity is observable:
+ * only the IEEE rate is given.
+ */
+export function voltageFromMagnitudes(vll: Float64Array | null, vln: Float64Array | null, s: SequenceScratch): VoltageResult {
+  let pos: PhasorOut | null = null;
+  let neg: PhasorOut | null = null;
+  let u2: number | null = null;
+  let lvur: number | null = null;
+  if (vll !== null) {
+    const ab = vll[0]!, bc = vll[1]!, ca = vll[2]!;
+    const u = u2FromLineMagnitudesPercent(ab, bc, ca);
+    if (Number.isFinite(u)) {
+      sequenceMagnitudesFromZeroSumInto(ab, bc, ca, s.pair);
+      pos = [s.pair[0]! * INV_SQRT3, null];
+      neg = [s.pair[1]! * INV_SQRT3, null];
+      u2 = s.pair[0]! > 0 ? u : null;
+    }
+    lvur = finiteOrNull(nemaLvurPercent(ab, bc, ca));
+  }
+  return {
+    zero: null,
+    pos,
+    neg,
+    u2,
+    u0: null,
+    rms: vln === null ? null : { a: vln[0]!, b: vln[1]!, c: vln[2]! },
+    thd: null,
+    rmsLL: vll === null ? null : { ab: vll[0]!, bc: vll[1]!, ca: vll[2]! },
+    lvur,
+    pvur: vln === null ? null : finiteOrNull(ieeePvurPercent(vln[0]!, vln[1]!, vln[2]!)),
+  };
+}
+
+/**
+ * Current part from phase magnitudes only. Assumes the three currents sum to
+ * zero (a three-wire feeder, or no neutral/ground current), under which the
+ * same β formula gives I2/I1 exactly; with neutral current present the value
+ * is an estimate. I0 is unobservable.
+ */
+export function currentFromMagnitudes(mags: Float64Array, s: SequenceScratch): QuantityResult {
+  const a = mags[0]!, b = mags[1]!, c = mags[2]!;
+  const u = u2FromLineMagnitudesPercent(a, b, c);
+  let pos: PhasorOut | null = null;
+  let neg: PhasorOut | null = null;
+  let u2: number | null = null;
+  if (Number.isFinite(u)) {
+    sequenceMagnitudesFromZeroSumInto(a, b, c, s.pair);
+    pos = [s.pair[0]!, null];
+    neg = [s.pair[1]!, null];
+    u2 = s.pair[0]! > 0 ? u : null;
+  }
+  return { zero: null, pos, neg, u2, u0: null, rms: { a, b, c }, thd: null };
+}
+
+function finiteOrNull(x: number): number | null {
+  return Number.isFinite(x) ? x : null;
+}
