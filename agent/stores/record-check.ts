@@ -1,0 +1,167 @@
+/**
+ * Checks every record before any of its batch is stored, so a bad record is
+ * refused with a coded error that names the field, and a batch is either
+ * stored whole or not at all (RULES 5: nothing already accepted is lost,
+ * nothing half-written).
+ */
+import { AgentError } from '../core/errors.js';
+import { ALARM_CONDITIONS, FAULT_TYPES, type AlarmTransition, type DisturbanceEvent } from '../core/detect/types.js';
+import { FEEDER_ID_PATTERN } from '../core/frames.js';
+import { AGGREGATE_WINDOWS, type AggregateWindow, type SequenceResult } from '../core/result.js';
+
+const PHASES: readonly string[] = ['a', 'b', 'c'];
+const STATES: readonly string[] = ['raised', 'cleared'];
+const LEVELS: readonly string[] = ['warning', 'alarm'];
+
+/** Thrown inside a check; turned into one AgentError by the caller, who knows which record it was. */
+class FieldProblem {
+  constructor(
+    readonly field: string,
+    readonly problem: string,
+  ) {}
+}
+
+function describe(x: unknown): string {
+  if (x === null) return 'null';
+  if (x === undefined) return 'nothing';
+  if (typeof x === 'number') return String(x);
+  if (typeof x === 'string') return `"${x.length > 40 ? `${x.slice(0, 40)}...` : x}"`;
+  return Array.isArray(x) ? 'an array' : typeof x;
+}
+
+function finite(x: unknown, field: string): void {
+  if (typeof x !== 'number' || !Number.isFinite(x)) throw new FieldProblem(field, `must be a finite number, found ${describe(x)}`);
+}
+
+function finiteOrNull(x: unknown, field: string): void {
+  if (x !== null && (typeof x !== 'number' || !Number.isFinite(x))) {
+    throw new FieldProblem(field, `must be a finite number or null, found ${describe(x)}`);
+  }
+}
+
+function oneOf(x: unknown, allowed: readonly string[], field: string): void {
+  if (typeof x !== 'string' || !allowed.includes(x)) throw new FieldProblem(field, `must be one of ${allowed.join(', ')}, found ${describe(x)}`);
+}
+
+function feederId(x: unknown): void {
+  if (typeof x !== 'string' || !FEEDER_ID_PATTERN.test(x)) throw new FieldProblem('feeder', `must match [A-Za-z0-9_.-]{1,64}, found ${describe(x)}`);
+}
+
+function timestamp(x: unknown): void {
+  // InfluxDB 1.x keeps times between 1677 and 2262; epoch ms >= 0 keeps every store on the same footing.
+  if (typeof x !== 'number' || !Number.isFinite(x) || x < 0 || x > 9.2e15) {
+    throw new FieldProblem('ts', `must be epoch milliseconds between 0 and 9.2e15, found ${describe(x)}`);
+  }
+}
+
+function phasor(x: unknown, field: string): void {
+  if (x === null) return;
+  if (!Array.isArray(x) || x.length !== 2) throw new FieldProblem(field, `must be [magnitude, angle] or null, found ${describe(x)}`);
+  finite(x[0], `${field}[0]`);
+  finiteOrNull(x[1], `${field}[1]`);
+}
+
+function triple(x: unknown, keys: readonly string[], field: string): void {
+  if (x === null) return;
+  if (typeof x !== 'object' || x === undefined || Array.isArray(x)) throw new FieldProblem(field, `must be an object or null, found ${describe(x)}`);
+  const o = x as Record<string, unknown>;
+  for (const k of keys) finite(o[k], `${field}.${k}`);
+}
+
+function quantity(x: unknown, field: string, voltage: boolean): void {
+  if (x === null) return;
+  if (typeof x !== 'object' || x === undefined || Array.isArray(x)) throw new FieldProblem(field, `must be an object or null, found ${describe(x)}`);
+  const q = x as Record<string, unknown>;
+  phasor(q.zero, `${field}.zero`);
+  phasor(q.pos, `${field}.pos`);
+  phasor(q.neg, `${field}.neg`);
+  finiteOrNull(q.u2, `${field}.u2`);
+  finiteOrNull(q.u0, `${field}.u0`);
+  triple(q.rms, PHASES, `${field}.rms`);
+  triple(q.thd, PHASES, `${field}.thd`);
+  if (voltage) {
+    triple(q.rmsLL, ['ab', 'bc', 'ca'], `${field}.rmsLL`);
+    finiteOrNull(q.lvur, `${field}.lvur`);
+    finiteOrNull(q.pvur, `${field}.pvur`);
+  }
+}
+
+function resultFields(r: SequenceResult): void {
+  if (typeof r !== 'object' || r === null) throw new FieldProblem('(record)', `must be an object, found ${describe(r)}`);
+  feederId(r.feeder);
+  if (!(AGGREGATE_WINDOWS as readonly string[]).includes(r.window)) {
+    throw new FieldProblem('window', `must be one of ${AGGREGATE_WINDOWS.join(', ')} (only aggregates are trended), found ${describe(r.window)}`);
+  }
+  timestamp(r.ts);
+  finite(r.durationMs, 'durationMs');
+  if (r.durationMs < 0) throw new FieldProblem('durationMs', `must not be negative, found ${r.durationMs}`);
+  finiteOrNull(r.freq, 'freq');
+  if (typeof r.flagged !== 'boolean') throw new FieldProblem('flagged', `must be true or false, found ${describe(r.flagged)}`);
+  if (!Number.isSafeInteger(r.count) || r.count < 0) throw new FieldProblem('count', `must be a whole number >= 0, found ${describe(r.count)}`);
+  quantity(r.v, 'v', true);
+  quantity(r.i, 'i', false);
+}
+
+function alarmFields(a: AlarmTransition): void {
+  if (typeof a !== 'object' || a === null) throw new FieldProblem('(record)', `must be an object, found ${describe(a)}`);
+  feederId(a.feeder);
+  timestamp(a.ts);
+  oneOf(a.condition, ALARM_CONDITIONS, 'condition');
+  oneOf(a.state, STATES, 'state');
+  oneOf(a.level, LEVELS, 'level');
+  finiteOrNull(a.value, 'value');
+  finiteOrNull(a.limit, 'limit');
+  if (a.phase !== null) oneOf(a.phase, PHASES, 'phase');
+  if (typeof a.message !== 'string') throw new FieldProblem('message', `must be a string, found ${describe(a.message)}`);
+}
+
+function eventFields(e: DisturbanceEvent): void {
+  if (typeof e !== 'object' || e === null) throw new FieldProblem('(record)', `must be an object, found ${describe(e)}`);
+  feederId(e.feeder);
+  timestamp(e.ts);
+  oneOf(e.type, FAULT_TYPES, 'type');
+  finite(e.durationMs, 'durationMs');
+  finite(e.peakCurrent, 'peakCurrent');
+  oneOf(e.peakPhase, PHASES, 'peakPhase');
+  finiteOrNull(e.i0OverI1, 'i0OverI1');
+  finiteOrNull(e.i2OverI1, 'i2OverI1');
+  if (typeof e.message !== 'string') throw new FieldProblem('message', `must be a string, found ${describe(e.message)}`);
+}
+
+function refuse(what: string, p: FieldProblem, cause: unknown): AgentError {
+  return new AgentError('STORE_WRITE_FAILED', `${what}: ${p.field} ${p.problem}; nothing of this batch was stored`, {
+    cause,
+    details: { field: p.field },
+  });
+}
+
+/** Throws STORE_WRITE_FAILED naming the first bad field of the first bad result. */
+export function checkResults(results: readonly SequenceResult[]): void {
+  if (!Array.isArray(results)) throw new AgentError('STORE_WRITE_FAILED', 'writeResults expects an array of results');
+  for (let k = 0; k < results.length; k++) {
+    try {
+      resultFields(results[k]);
+    } catch (e) {
+      if (e instanceof FieldProblem) throw refuse(`result ${k} of the batch`, e, undefined);
+      throw e;
+    }
+  }
+}
+
+export function checkAlarm(a: AlarmTransition): void {
+  try {
+    alarmFields(a);
+  } catch (e) {
+    if (e instanceof FieldProblem) throw refuse('alarm transition', e, undefined);
+    throw e;
+  }
+}
+
+export function checkEvent(e: DisturbanceEvent): void {
+  try {
+    eventFields(e);
+  } catch (err) {
+    if (err instanceof FieldProblem) throw refuse('disturbance event', err, undefined);
+    throw err;
+  }
+}

@@ -1,0 +1,149 @@
+/**
+ * The flat column layout of a stored SequenceResult, shared by the SQLite
+ * table `sequence` and the InfluxDB measurement `sequence` (docs/storage.md),
+ * so SQL and InfluxQL users read the same names. Nested nulls are kept
+ * apart: `has_v`/`has_i` say whether v/i existed at all, a phasor is null when
+ * its magnitude column is null, and a triple is null when its columns are.
+ */
+import type { AggregateWindow, PhasorOut, PhaseTriple, QuantityResult, SequenceResult, VoltageResult } from '../core/result.js';
+
+export type ColumnKind = 'float' | 'integer' | 'boolean';
+
+const QUANTITY_COLUMNS = ['zero_mag', 'zero_ang', 'pos_mag', 'pos_ang', 'neg_mag', 'neg_ang', 'u2', 'u0', 'rms_a', 'rms_b', 'rms_c', 'thd_a', 'thd_b', 'thd_c'];
+const VOLTAGE_ONLY_COLUMNS = ['rms_ab', 'rms_bc', 'rms_ca', 'lvur', 'pvur'];
+
+/** Column names in storage order; a row is a value array in this order. */
+export const SEQUENCE_COLUMNS: readonly string[] = [
+  'duration_ms',
+  'freq',
+  'flagged',
+  'count',
+  'has_v',
+  'has_i',
+  ...QUANTITY_COLUMNS.map((c) => `v_${c}`),
+  ...VOLTAGE_ONLY_COLUMNS.map((c) => `v_${c}`),
+  ...QUANTITY_COLUMNS.map((c) => `i_${c}`),
+];
+
+export const SEQUENCE_COLUMN_KINDS: readonly ColumnKind[] = SEQUENCE_COLUMNS.map((c) =>
+  c === 'flagged' || c === 'has_v' || c === 'has_i' ? 'boolean' : c === 'count' ? 'integer' : 'float',
+);
+
+const FLAGGED = 2;
+const COUNT = 3;
+const HAS_V = 4;
+const HAS_I = 5;
+const V0 = 6;
+const I0 = V0 + QUANTITY_COLUMNS.length + VOLTAGE_ONLY_COLUMNS.length;
+
+/** A stored value: booleans are kept as 0/1 so the same row binds to SQLite directly. */
+export type ColumnValue = number | null;
+
+function putQuantity(row: ColumnValue[], at: number, q: QuantityResult): void {
+  const ph = (p: PhasorOut | null, k: number): void => {
+    row[k] = p === null ? null : p[0];
+    row[k + 1] = p === null ? null : p[1];
+  };
+  ph(q.zero, at);
+  ph(q.pos, at + 2);
+  ph(q.neg, at + 4);
+  row[at + 6] = q.u2;
+  row[at + 7] = q.u0;
+  const tr = (t: PhaseTriple | null, k: number): void => {
+    row[k] = t === null ? null : t.a;
+    row[k + 1] = t === null ? null : t.b;
+    row[k + 2] = t === null ? null : t.c;
+  };
+  tr(q.rms, at + 8);
+  tr(q.thd, at + 11);
+}
+
+/** Writes the columns of `r` into `row` (length SEQUENCE_COLUMNS.length); returns row. */
+export function sequenceToRow(r: SequenceResult, row: ColumnValue[]): ColumnValue[] {
+  row.fill(null);
+  row[0] = r.durationMs;
+  row[1] = r.freq;
+  row[FLAGGED] = r.flagged ? 1 : 0;
+  row[COUNT] = r.count;
+  row[HAS_V] = r.v === null ? 0 : 1;
+  row[HAS_I] = r.i === null ? 0 : 1;
+  if (r.v !== null) {
+    putQuantity(row, V0, r.v);
+    const ll = r.v.rmsLL;
+    const at = V0 + QUANTITY_COLUMNS.length;
+    row[at] = ll === null ? null : ll.ab;
+    row[at + 1] = ll === null ? null : ll.bc;
+    row[at + 2] = ll === null ? null : ll.ca;
+    row[at + 3] = r.v.lvur;
+    row[at + 4] = r.v.pvur;
+  }
+  if (r.i !== null) putQuantity(row, I0, r.i);
+  return row;
+}
+
+export function newRow(): ColumnValue[] {
+  return new Array<ColumnValue>(SEQUENCE_COLUMNS.length).fill(null);
+}
+
+/** Reads a column value; undefined (a field InfluxDB never saw) counts as null. */
+function num(row: ArrayLike<unknown>, k: number): number | null {
+  const x = row[k];
+  return typeof x === 'number' ? x : null;
+}
+
+function flag(row: ArrayLike<unknown>, k: number): boolean {
+  const x = row[k];
+  return x === true || x === 1;
+}
+
+function phasorAt(row: ArrayLike<unknown>, k: number): PhasorOut | null {
+  const mag = num(row, k);
+  return mag === null ? null : [mag, num(row, k + 1)];
+}
+
+function tripleAt(row: ArrayLike<unknown>, k: number): PhaseTriple | null {
+  const a = num(row, k);
+  const b = num(row, k + 1);
+  const c = num(row, k + 2);
+  return a === null || b === null || c === null ? null : { a, b, c };
+}
+
+function quantityAt(row: ArrayLike<unknown>, at: number): QuantityResult {
+  return {
+    zero: phasorAt(row, at),
+    pos: phasorAt(row, at + 2),
+    neg: phasorAt(row, at + 4),
+    u2: num(row, at + 6),
+    u0: num(row, at + 7),
+    rms: tripleAt(row, at + 8),
+    thd: tripleAt(row, at + 11),
+  };
+}
+
+/** Rebuilds a SequenceResult from a row in SEQUENCE_COLUMNS order, with every field present. */
+export function rowToSequence(feeder: string, window: AggregateWindow, ts: number, row: ArrayLike<unknown>): SequenceResult {
+  let v: VoltageResult | null = null;
+  if (flag(row, HAS_V)) {
+    const at = V0 + QUANTITY_COLUMNS.length;
+    const ab = num(row, at);
+    const bc = num(row, at + 1);
+    const ca = num(row, at + 2);
+    v = {
+      ...quantityAt(row, V0),
+      rmsLL: ab === null || bc === null || ca === null ? null : { ab, bc, ca },
+      lvur: num(row, at + 3),
+      pvur: num(row, at + 4),
+    };
+  }
+  return {
+    ts,
+    feeder,
+    window,
+    durationMs: num(row, 0) ?? 0,
+    freq: num(row, 1),
+    flagged: flag(row, FLAGGED),
+    v,
+    i: flag(row, HAS_I) ? quantityAt(row, I0) : null,
+    count: num(row, COUNT) ?? 0,
+  };
+}
