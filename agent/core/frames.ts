@@ -224,7 +224,8 @@ function resolveKind(o: Record<string, unknown>, fromTopic: FrameKind | undefine
   const v = o.v ?? o.i;
   if (v !== null && typeof v === 'object' && !Array.isArray(v)) {
     const a = (v as Record<string, unknown>).a;
-    if (Array.isArray(a)) return a.length === 2 && o.rate === undefined ? 'phasor' : 'samples';
+    // Without a rate a phase given as an array can only be a phasor pair.
+    if (Array.isArray(a)) return 'phasor';
     if (typeof a === 'number') return 'rms';
   }
   fail('FRAME_UNKNOWN_KIND', 'kind', 'cannot tell the frame kind: give "kind" (phasor, rms, samples) or the fields of one kind');
