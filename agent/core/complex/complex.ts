@@ -16,7 +16,9 @@ export function polarToRectInto(magnitude: number, angleDeg: number, out: Float6
 }
 
 export function magnitudeAt(buf: Float64Array, offset: number): number {
-  return Math.hypot(buf[offset]!, buf[offset + 1]!);
+  // Not Math.hypot: several times slower in V8, and no phasor comes near overflow.
+  const re = buf[offset]!, im = buf[offset + 1]!;
+  return Math.sqrt(re * re + im * im);
 }
 
 /** Angle in degrees, normalised to (-180, 180]. */
