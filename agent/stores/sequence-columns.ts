@@ -58,26 +58,29 @@ function putQuantity(row: ColumnValue[], at: number, q: QuantityResult): void {
   tr(q.thd, at + 11);
 }
 
-/** Writes the columns of `r` into `row` (length SEQUENCE_COLUMNS.length); returns row. */
-export function sequenceToRow(r: SequenceResult, row: ColumnValue[]): ColumnValue[] {
-  row.fill(null);
-  row[0] = r.durationMs;
-  row[1] = r.freq;
-  row[FLAGGED] = r.flagged ? 1 : 0;
-  row[COUNT] = r.count;
-  row[HAS_V] = r.v === null ? 0 : 1;
-  row[HAS_I] = r.i === null ? 0 : 1;
+/**
+ * Writes the columns of `r` into `row` from index `offset` on (callers keep
+ * one row and reuse it, so a write loop allocates nothing per result).
+ */
+export function sequenceToRow(r: SequenceResult, row: ColumnValue[], offset = 0): ColumnValue[] {
+  row.fill(null, offset, offset + SEQUENCE_COLUMNS.length);
+  row[offset] = r.durationMs;
+  row[offset + 1] = r.freq;
+  row[offset + FLAGGED] = r.flagged ? 1 : 0;
+  row[offset + COUNT] = r.count;
+  row[offset + HAS_V] = r.v === null ? 0 : 1;
+  row[offset + HAS_I] = r.i === null ? 0 : 1;
   if (r.v !== null) {
-    putQuantity(row, V0, r.v);
+    putQuantity(row, offset + V0, r.v);
     const ll = r.v.rmsLL;
-    const at = V0 + QUANTITY_COLUMNS.length;
+    const at = offset + V0 + QUANTITY_COLUMNS.length;
     row[at] = ll === null ? null : ll.ab;
     row[at + 1] = ll === null ? null : ll.bc;
     row[at + 2] = ll === null ? null : ll.ca;
     row[at + 3] = r.v.lvur;
     row[at + 4] = r.v.pvur;
   }
-  if (r.i !== null) putQuantity(row, I0, r.i);
+  if (r.i !== null) putQuantity(row, offset + I0, r.i);
   return row;
 }
 
@@ -120,16 +123,16 @@ function quantityAt(row: ArrayLike<unknown>, at: number): QuantityResult {
   };
 }
 
-/** Rebuilds a SequenceResult from a row in SEQUENCE_COLUMNS order, with every field present. */
-export function rowToSequence(feeder: string, window: AggregateWindow, ts: number, row: ArrayLike<unknown>): SequenceResult {
+/** Rebuilds a SequenceResult from a row in SEQUENCE_COLUMNS order starting at `o`, with every field present. */
+export function rowToSequence(feeder: string, window: AggregateWindow, ts: number, row: ArrayLike<unknown>, o = 0): SequenceResult {
   let v: VoltageResult | null = null;
-  if (flag(row, HAS_V)) {
-    const at = V0 + QUANTITY_COLUMNS.length;
+  if (flag(row, o + HAS_V)) {
+    const at = o + V0 + QUANTITY_COLUMNS.length;
     const ab = num(row, at);
     const bc = num(row, at + 1);
     const ca = num(row, at + 2);
     v = {
-      ...quantityAt(row, V0),
+      ...quantityAt(row, o + V0),
       rmsLL: ab === null || bc === null || ca === null ? null : { ab, bc, ca },
       lvur: num(row, at + 3),
       pvur: num(row, at + 4),
@@ -139,11 +142,11 @@ export function rowToSequence(feeder: string, window: AggregateWindow, ts: numbe
     ts,
     feeder,
     window,
-    durationMs: num(row, 0) ?? 0,
-    freq: num(row, 1),
-    flagged: flag(row, FLAGGED),
+    durationMs: num(row, o) ?? 0,
+    freq: num(row, o + 1),
+    flagged: flag(row, o + FLAGGED),
     v,
-    i: flag(row, HAS_I) ? quantityAt(row, I0) : null,
-    count: num(row, COUNT) ?? 0,
+    i: flag(row, o + HAS_I) ? quantityAt(row, o + I0) : null,
+    count: num(row, o + COUNT) ?? 0,
   };
 }
