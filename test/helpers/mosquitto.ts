@@ -23,6 +23,8 @@ export function mosquittoAvailable(): boolean {
 export interface MosquittoOptions {
   /** Extra configuration lines appended to the minimal config. */
   readonly extraConfig?: readonly string[];
+  /** Keep sessions, subscriptions and retained messages across restart() (saved on SIGTERM). Default false. */
+  readonly persistence?: boolean;
   /** How long to wait for the listener, ms. */
   readonly startTimeoutMs?: number;
 }
@@ -48,7 +50,7 @@ export class Mosquitto {
     const lines = [
       `listener ${port} 127.0.0.1`,
       'allow_anonymous true',
-      'persistence false',
+      ...(options.persistence === true ? ['persistence true', `persistence_location ${dir}/`] : ['persistence false']),
       'set_tcp_nodelay true',
       'max_queued_messages 0',
       'log_dest stderr',
@@ -111,7 +113,7 @@ export class Mosquitto {
     clearTimeout(timer);
   }
 
-  /** Stop and start again on the same port (sessions and retained messages are lost: persistence is off). */
+  /** Stop and start again on the same port (sessions and retained messages are lost unless persistence is on). */
   async restart(): Promise<void> {
     await this.stop();
     await this.launch();
