@@ -87,6 +87,7 @@ function tooNew(path: string, found: number): AgentError {
 export function migrate(db: Db, path: string): number {
   const found = version(db);
   if (found > SCHEMA_VERSION) throw tooNew(path, found);
+  if (found === SCHEMA_VERSION) return found; // no write lock needed to open a current file
   for (;;) {
     const step = db.transaction((): boolean => {
       // Read again inside the write lock: another process may have migrated meanwhile.
