@@ -8,7 +8,7 @@
  * that falls behind in a burst, which would look like loss in the tests.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { chmodSync, existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { connect } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -59,6 +59,8 @@ export class Mosquitto {
       ...(options.extraConfig ?? []),
     ];
     writeFileSync(confPath, `${lines.join('\n')}\n`);
+    // Started as root, mosquitto drops to the "mosquitto" user, which must be able to write its database here.
+    if (options.persistence === true) chmodSync(dir, 0o777);
     const broker = new Mosquitto(port, dir, confPath, options.startTimeoutMs ?? START_TIMEOUT_MS);
     await broker.launch();
     return broker;
