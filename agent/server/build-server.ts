@@ -3,7 +3,7 @@
  * listening (agent/main.ts listens on deps.security.host after
  * assertBindAllowed; tests call inject()). One encapsulated plugin per area.
  */
-import Fastify, { type FastifyInstance, type FastifyRequest } from 'fastify';
+import Fastify, { LogController, type FastifyInstance, type FastifyRequest } from 'fastify';
 import { AgentError } from '../core/errors.js';
 import { createContext } from './context.js';
 import type { ServerDeps } from './deps.js';
@@ -36,7 +36,7 @@ export async function buildServer(deps: ServerDeps): Promise<FastifyInstance> {
   const base = {
     bodyLimit: deps.security.bodyLimitBytes,
     // Request lines carry ?token= for SSE: fastify's own request log would print it, so requests are logged here, redacted.
-    disableRequestLogging: true,
+    logController: new LogController({ disableRequestLogging: true }),
     trustProxy: false,
     return503OnClosing: true,
   };
