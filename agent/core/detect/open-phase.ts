@@ -113,6 +113,7 @@ export function evaluateOpenPhase(cfg: OpenPhaseSettings, faultPickupA: number |
   let currentsUnbalanced = false;
   let i21: number | null = null;
   let v21: number | null = null;
+  let voltsPresent = false;
   if (irms !== null) {
     const k = collapsedPhase(irms.a, irms.b, irms.c, cfg.currentCollapseRatio, cfg.minLoadA);
     i21 = ratio(iq!.neg, iq!.pos);
@@ -154,6 +155,7 @@ export function evaluateOpenPhase(cfg: OpenPhaseSettings, faultPickupA: number |
     const collapseLevel = cfg.voltageCollapseRatio * ref;
     const collapsed = ref > 0 && vk < collapseLevel && (k === 0 ? vb >= collapseLevel && vc >= collapseLevel : k === 1 ? va >= collapseLevel && vc >= collapseLevel : va >= collapseLevel && vb >= collapseLevel);
     const collapsedSupported = collapsed && (v21 === null || v21Large);
+    voltsPresent = ref > 0 && vk >= collapseLevel;
     const lowWithV2 = ref > 0 && v21Large && vk < LOW_PHASE_VOLTAGE_RATIO * ref;
     if (collapsedSupported || lowWithV2) {
       out.reset(irms !== null && currentsHealthy ? 'loss-of-potential' : 'open-phase');
@@ -175,7 +177,8 @@ export function evaluateOpenPhase(cfg: OpenPhaseSettings, faultPickupA: number |
   }
 
   // No signature. "Healthy" needs evidence: loaded currents when currents are measured (voltages taken upstream of
-  // an open point stay healthy, so they prove nothing then), otherwise line-to-neutral voltages.
+  // an open point stay healthy, so they prove nothing then), otherwise all three line-to-neutral voltages present
+  // (a dead feeder proves nothing about its fuses).
   // The value reported with a clearing is the present sequence ratio.
   if (irms !== null) {
     out.reset(currentsHealthy || currentsUnbalanced ? 'healthy' : 'unobservable');
@@ -185,7 +188,7 @@ export function evaluateOpenPhase(cfg: OpenPhaseSettings, faultPickupA: number |
       out.quantity = 'I2/I1';
     }
   } else {
-    out.reset(vrms !== null ? 'healthy' : 'unobservable');
+    out.reset(voltsPresent ? 'healthy' : 'unobservable');
     if (v21 !== null) {
       out.value = v21;
       out.limit = cfg.negToPosVoltageRatio;
