@@ -2,12 +2,13 @@
  * Resampling of a uniformly sampled signal at arbitrary fractional positions
  * by six-point (fifth-degree) Lagrange interpolation, nodes n-2 .. n+3 around
  * the position n + μ, 0 ≤ μ < 1 (Abramowitz & Stegun, Handbook of
- * Mathematical Functions, 25.2.15, six-point formula).
+ * Mathematical Functions, 25.2.15, six-point formula; numbering from memory).
  *
- * Why fifth degree: cubic interpolation of a 7th harmonic at 80 samples per
- * cycle (4 kS/s, 50 Hz) is off by about 1 % in amplitude; the six-point
- * formula is exact for polynomials up to degree 5 and keeps the error of
- * every harmonic up to the 13th below 1e-4 at that rate.
+ * Why fifth degree: at 80 samples per cycle (4 kS/s, 50 Hz) the worst
+ * instantaneous error, as a fraction of the amplitude, is 9e-7 (cubic) vs
+ * 1e-9 (six-point) for the fundamental and 2.1e-3 vs 1.3e-4 for the 7th
+ * harmonic (computed from the interpolation weights over all fractional
+ * positions); the extra taps cost little because the weights are shared.
  *
  * The weights depend only on the positions, which are the same for every
  * channel of a window, so they are computed once by plan() and applied to
