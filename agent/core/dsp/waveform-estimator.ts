@@ -230,8 +230,9 @@ export class WaveformEstimator {
       // Acquire: coarse frequency from zero crossings over at least one nominal window.
       const nominalSpan = (N * rate) / this.nominalHz;
       if (!this.fits(nominalSpan)) return false;
+      // Always the same span, so the result does not depend on how the samples were split into blocks.
       const from = Math.floor(this.start);
-      const to = Math.min(this.length - LAGRANGE_TAPS_AFTER, from + Math.ceil((N * rate) / this.minHz));
+      const to = from + Math.floor(nominalSpan);
       const coarse = coarseFrequencyHz(this.buffers[this.strongestChannel(from, to)]!, from, to, rate);
       f = Number.isFinite(coarse) ? this.clamp(coarse) : this.nominalHz;
     }
