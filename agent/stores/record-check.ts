@@ -48,9 +48,9 @@ function feederId(x: unknown): void {
 }
 
 function timestamp(x: unknown): void {
-  // InfluxDB 1.x keeps times between 1677 and 2262; epoch ms >= 0 keeps every store on the same footing.
-  if (typeof x !== 'number' || !Number.isFinite(x) || x < 0 || x > 9.2e15) {
-    throw new FieldProblem('ts', `must be epoch milliseconds between 0 and 9.2e15, found ${describe(x)}`);
+  // InfluxDB 1.x keeps times up to 2262 (int64 ns = 9.22e12 ms); 0..9e12 ms (1970..2255) fits every store.
+  if (typeof x !== 'number' || !Number.isFinite(x) || x < 0 || x > 9e12) {
+    throw new FieldProblem('ts', `must be epoch milliseconds between 0 (1970) and 9e12 (2255), found ${describe(x)}`);
   }
 }
 
