@@ -104,3 +104,22 @@ export function faultPhaseCurrents(t: FaultType, net: SourceNetwork, rf: number,
   const polar = (x: Complex): [number, number] => [abs(x) as unknown as number, (arg(x) * 180) / Math.PI];
   return { a: polar(add(fault[0]!, loadPh[0]!) as Complex), b: polar(add(fault[1]!, loadPh[1]!) as Complex), c: polar(add(fault[2]!, loadPh[2]!) as Complex) };
 }
+
+/**
+ * Phase voltages (a, b, c) at the fault: V1 = E − Z1·I1, V2 = −Z2·I2, V0 = −Z0·I0
+ * referred to the symmetrical phase (same textbook network), as [magnitude, angleDeg].
+ */
+export function faultPhaseVoltages(t: FaultType, net: SourceNetwork, rf: number): PolarSet {
+  const [i0, i1, i2] = faultSequenceCurrents(t, net, rf);
+  const k = symmetricalPhase(t);
+  const e = multiply(complex(net.vln, 0), k === 0 ? complex(1, 0) : k === 1 ? A2 : A) as Complex;
+  const v1 = add(e, multiply(-1, multiply(net.z1, i1))) as Complex;
+  const v2 = multiply(-1, multiply(net.z2, i2)) as Complex;
+  const v0 = multiply(-1, multiply(net.z0, i0)) as Complex;
+  const ph: Complex[] = [ZERO, ZERO, ZERO];
+  ph[k] = add(add(v0, v1), v2) as Complex;
+  ph[(k + 1) % 3] = add(add(v0, multiply(A2, v1)), multiply(A, v2)) as Complex;
+  ph[(k + 2) % 3] = add(add(v0, multiply(A, v1)), multiply(A2, v2)) as Complex;
+  const polar = (x: Complex): [number, number] => [abs(x) as unknown as number, (arg(x) * 180) / Math.PI];
+  return { a: polar(ph[0]!), b: polar(ph[1]!), c: polar(ph[2]!) };
+}
