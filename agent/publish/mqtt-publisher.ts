@@ -68,7 +68,7 @@ export interface MqttPublisherOptions {
   readonly releaseClient?: (() => Promise<void>) | undefined;
   /** Own connection, used when no client is given. */
   readonly connection?: MqttPublisherConnection | undefined;
-  /** Bound on unacknowledged `sequence` messages. Default 10000 (about 8 minutes of 200 feeders at one per 3 s). */
+  /** Bound on unacknowledged `sequence` messages. Default 10000 (about 2.5 minutes of 200 feeders at one result per 3 s). */
   readonly maxQueued?: number | undefined;
   /** Bound on unacknowledged alarm and event messages. Default 10000. */
   readonly maxQueuedAlarmsEvents?: number | undefined;
