@@ -10,6 +10,7 @@ import { waitFor } from '../helpers/free-port.js';
 import { Mosquitto, mosquittoAvailable } from '../helpers/mosquitto.js';
 import { FrameCollector } from '../helpers/mqtt-test-sink.js';
 import { Teardown } from '../helpers/teardown.js';
+import { StepScheduler } from '../helpers/mqtt-step-scheduler.js';
 
 const PHASOR = JSON.stringify({
   ts: '2026-03-02T14:03:07.250Z',
@@ -171,6 +172,45 @@ describe.skipIf(!mosquittoAvailable())('MqttSource with a real mosquitto', () =>
     await pub.publishAsync('seqmon/in/F1/phasor', PHASOR, { qos: 1 });
     await new Promise((r) => setTimeout(r, 100));
     expect(sink.frames).toHaveLength(0);
+  });
+
+  test('MQTT 5 connections receive frames the same way', async () => {
+    const sink = new FrameCollector();
+    const { src } = source({ protocolVersion: 5 });
+    await src.start(sink);
+    await waitFor(() => src.status().state === 'connected', 5_000);
+    const pub = await publisher(broker.url, td);
+    await pub.publishAsync('seqmon/in/F5/phasor', PHASOR, { qos: 1 });
+    await waitFor(() => sink.frames.length === 1, 5_000);
+    expect([sink.frames[0]!.feeder, sink.frames[0]!.kind]).toEqual(['F5', 'phasor']);
+  });
+
+  test('the back-off starts again from the first delay only after a connection stayed up for 2 x maxMs', async () => {
+    const sched = new StepScheduler();
+    const sink = new FrameCollector();
+    const { src } = source({ scheduler: sched, random: () => 0.999999, reconnect: { minMs: 100, maxMs: 1_000 } });
+    await broker.stop();
+    await src.start(sink);
+    // Three refused attempts while the broker is down: delays 100, 200, 400 (each delay equals its cap).
+    for (let k = 0; k < 3; k++) {
+      await waitFor(() => sched.pending.length === 1, 2_000);
+      sched.fire();
+    }
+    await waitFor(() => sched.pending.length === 1, 2_000);
+    await broker.restart();
+    sched.fire();
+    await waitFor(() => src.status().state === 'connected', 5_000);
+    // A short-lived connection: the next drop continues the sequence (1000 = cap after 800).
+    sched.clock += 500;
+    await broker.restart();
+    await waitFor(() => sched.pending.length === 1, 5_000);
+    sched.fire();
+    await waitFor(() => src.status().state === 'connected', 5_000);
+    // A connection that stays up 2 x maxMs counts as healthy: the next drop starts again at 100.
+    sched.clock += 2_000;
+    await broker.restart();
+    await waitFor(() => sched.pending.length === 1, 5_000);
+    expect(sched.requested).toEqual([100, 200, 400, 800, 1_000, 100]);
   });
 
   test('destroy(err) ends at once, reports failed with the reason, and is idempotent', async () => {

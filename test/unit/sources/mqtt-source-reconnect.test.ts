@@ -4,49 +4,20 @@
  * with nothing listening: every attempt is refused at once.
  */
 import { afterEach, describe, expect, test } from 'vitest';
-import type { Scheduler, SourceState, TimerHandle } from '../../../agent/core/ports.js';
+import type { SourceState } from '../../../agent/core/ports.js';
 import { MqttSource } from '../../../agent/sources/mqtt/mqtt-source.js';
 import { freePort, waitFor } from '../../helpers/free-port.js';
 import { FrameCollector } from '../../helpers/mqtt-test-sink.js';
 import { Teardown } from '../../helpers/teardown.js';
-
-/** Records timers instead of running them; fire() runs the oldest pending one. */
-class ManualScheduler implements Scheduler {
-  clock = 0;
-  readonly pending: { fn: () => void; ms: number; id: number }[] = [];
-  readonly requested: number[] = [];
-  private nextId = 1;
-  now(): number {
-    return this.clock;
-  }
-  setTimeout(fn: () => void, ms: number): TimerHandle {
-    const id = this.nextId++;
-    this.pending.push({ fn, ms, id });
-    this.requested.push(ms);
-    return id;
-  }
-  clearTimeout(handle: TimerHandle): void {
-    const k = this.pending.findIndex((p) => p.id === handle);
-    if (k >= 0) this.pending.splice(k, 1);
-  }
-  setInterval(): TimerHandle {
-    throw new Error('not used by the source');
-  }
-  clearInterval(): void {}
-  fire(): void {
-    const t = this.pending.shift()!;
-    this.clock += t.ms;
-    t.fn();
-  }
-}
+import { StepScheduler } from '../../helpers/mqtt-step-scheduler.js';
 
 describe('MqttSource retry timing on an injected scheduler', () => {
   const td = new Teardown();
   afterEach(() => td.run());
 
-  async function refusedSource(): Promise<{ src: MqttSource; sched: ManualScheduler; states: SourceState[] }> {
+  async function refusedSource(): Promise<{ src: MqttSource; sched: StepScheduler; states: SourceState[] }> {
     const port = await freePort();
-    const sched = new ManualScheduler();
+    const sched = new StepScheduler();
     const states: SourceState[] = [];
     // random() = 0.999999: each delay equals its cap, so the sequence is exact.
     const src = new MqttSource({
