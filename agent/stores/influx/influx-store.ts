@@ -22,7 +22,7 @@
  * corrected) through the influx package before the first write, and again
  * if the database disappears; the store opens even while InfluxDB is down.
  */
-import { InfluxDB } from 'influx';
+import { InfluxDB, type IPoolOptions } from 'influx';
 import { AgentError, isAgentError } from '../../core/errors.js';
 import type { AlarmCondition, AlarmLevel, AlarmState, AlarmTransition, DisturbanceEvent, FaultType, Phase } from '../../core/detect/types.js';
 import type { AlarmQuery, EventQuery, Scheduler, StoreHealth, TimeRange, TimerHandle, TrendStore } from '../../core/ports.js';
@@ -92,6 +92,17 @@ class Unreachable extends Error {
     super(message);
   }
 }
+
+/**
+ * The store owns retry timing (its back-off runs on the injected scheduler);
+ * the client's own host back-off would add hidden real-time waits after a
+ * failure, so it is turned off: a zero delay keeps the host enabled.
+ */
+const NO_CLIENT_BACKOFF: NonNullable<IPoolOptions['backoff']> = {
+  getDelay: () => 0,
+  next: () => NO_CLIENT_BACKOFF,
+  reset: () => NO_CLIENT_BACKOFF,
+};
 
 function goDurationMs(d: string): number {
   const m = /^(?:(\d+)h)?(?:(\d+)m)?(?:(\d+)s)?$/.exec(d);
@@ -171,7 +182,7 @@ export class InfluxStore implements TrendStore {
       database: options.database,
       username: options.username ?? 'root',
       password: options.password ?? 'root',
-      pool: { requestTimeout: timeoutMs, maxRetries: 0 },
+      pool: { requestTimeout: timeoutMs, maxRetries: 0, backoff: NO_CLIENT_BACKOFF },
     });
     this.scheduler = options.scheduler ?? realScheduler;
     this.batchSize = options.batchSize ?? 5000;
