@@ -67,9 +67,10 @@ export function parseConfigText(text: string, file: string | null, env: Env = pr
   const doc = parseDocument(text, { lineCounter, prettyErrors: false, uniqueKeys: true });
   if (doc.errors.length > 0) {
     const first = doc.errors[0]!;
-    const line = first.linePos?.[0]?.line ?? null;
+    const lineAt = (e: { pos: [number, number] }): number => lineCounter.linePos(e.pos[0]).line;
+    const line = lineAt(first);
     throw new AgentError('CFG_READ_FAILED', `${where}${line === null ? '' : ` line ${line}`}: not valid YAML: ${first.message.split('\n')[0]}`, {
-      details: { file, line, problems: doc.errors.map((e) => ({ path: '(root)', expected: 'valid YAML', found: e.message.split('\n')[0], line: e.linePos?.[0]?.line ?? null })) },
+      details: { file, line, problems: doc.errors.map((e) => ({ path: '(root)', expected: 'valid YAML', found: e.message.split('\n')[0], line: lineAt(e) })) },
     });
   }
   let raw: unknown;
@@ -172,6 +173,9 @@ function resolve(raw: Raw, file: string | null, env: Env, cwd: string, problems:
   if (mqttTls !== null && (mqttTls.cert === null) !== (mqttTls.key === null)) {
     problem(['mqtt', 'tls', mqttTls.cert === null ? 'cert' : 'key'], 'both cert and key for a client certificate, or neither', 'only one of them');
   }
+  if (m.cleanSession === false && m.clientId === null) {
+    problem(['mqtt', 'clientId'], 'a fixed client id when mqtt.cleanSession is false (the broker finds the kept session by it)', 'null');
+  }
   if (m.embeddedBroker === true) {
     const u = new URL(m.url as string);
     if (u.protocol !== 'mqtt:' && u.protocol !== 'tcp:') problem(['mqtt', 'url'], 'an mqtt:// URL when mqtt.embeddedBroker is on (the embedded broker has no TLS)', describeValue(m.url));
@@ -263,6 +267,8 @@ function resolve(raw: Raw, file: string | null, env: Env, cwd: string, problems:
       publishResults: m.publishResults as boolean,
       maxPayloadBytes: m.maxPayloadBytes as number,
       keepaliveSec: m.keepaliveSec as number,
+      cleanSession: m.cleanSession as boolean,
+      connectTimeoutMs: m.connectTimeoutMs as number,
       reconnect: { minMs: reconnect.minMs as number, maxMs: reconnect.maxMs as number },
     },
     opcua: {

@@ -32,6 +32,8 @@ export interface MqttConfig {
   readonly publishResults: boolean;
   readonly maxPayloadBytes: number;
   readonly keepaliveSec: number;
+  readonly cleanSession: boolean;
+  readonly connectTimeoutMs: number;
   readonly reconnect: { readonly minMs: number; readonly maxMs: number };
 }
 
