@@ -1,13 +1,15 @@
 /**
  * Faults a real broker will not produce on cue, from a scripted TCP server on a
  * free loopback port: a broker that accepts the socket but never answers
- * CONNECT, and one that drops every socket at once. The source must keep
- * retrying, with delays that grow and stay under reconnect.maxMs.
+ * CONNECT, and one that drops every socket at once. The source (and the
+ * publisher's own connection) must keep retrying, with delays that grow and
+ * stay under reconnect.maxMs.
  */
-import { createServer, type Server, type Socket } from 'node:net';
 import { afterEach, describe, expect, test } from 'vitest';
+import { MqttPublisher } from '../../agent/publish/mqtt-publisher.js';
 import { MqttSource } from '../../agent/sources/mqtt/mqtt-source.js';
-import { freePort, waitFor } from '../helpers/free-port.js';
+import { waitFor } from '../helpers/free-port.js';
+import { gaps, scriptedBroker } from '../helpers/mqtt-scripted-broker.js';
 import { FrameCollector } from '../helpers/mqtt-test-sink.js';
 import { Teardown } from '../helpers/teardown.js';
 
@@ -16,32 +18,6 @@ const MAX_MS = 320;
 const CONNECT_TIMEOUT_MS = 100;
 // Timer and event-loop slack on a loaded 2-core machine (common practice for wall-clock bounds in tests).
 const SLACK_MS = 150;
-
-async function scriptedBroker(onSocket: (s: Socket) => void, td: Teardown): Promise<{ port: number; accepts: number[] }> {
-  const port = await freePort();
-  const accepts: number[] = [];
-  const sockets = new Set<Socket>();
-  const server: Server = createServer((s) => {
-    accepts.push(performance.now());
-    sockets.add(s);
-    s.on('close', () => sockets.delete(s));
-    s.on('error', () => undefined);
-    onSocket(s);
-  });
-  await new Promise<void>((r) => server.listen(port, '127.0.0.1', r));
-  td.add(
-    () =>
-      new Promise<void>((r) => {
-        for (const s of sockets) s.destroy();
-        server.close(() => r());
-      }),
-  );
-  return { port, accepts };
-}
-
-function gaps(times: number[]): number[] {
-  return times.slice(1).map((t, k) => t - times[k]!);
-}
 
 describe('MqttSource reconnect back-off against a scripted broker', () => {
   const td = new Teardown();
@@ -89,5 +65,23 @@ describe('MqttSource reconnect back-off against a scripted broker', () => {
     await new Promise((r) => setTimeout(r, MAX_MS + SLACK_MS));
     expect(accepts.length).toBe(seen);
     expect(src.status().state).toBe('closed');
+  });
+});
+
+describe('MqttPublisher own-connection back-off against a scripted broker', () => {
+  const td = new Teardown();
+  afterEach(() => td.run());
+
+  test('a broker that drops every socket is retried with growing, bounded delays, and messages wait meanwhile', async () => {
+    const { port, accepts } = await scriptedBroker((s) => s.destroy(), td);
+    const pub = new MqttPublisher({ connection: { url: `mqtt://127.0.0.1:${port}`, reconnect: { minMs: MIN_MS, maxMs: MAX_MS } } });
+    td.add(() => pub.destroy());
+    pub.publishEvent({ ts: 1772460187250, feeder: 'F1', type: 'AG', durationMs: 50, peakCurrent: 1800, peakPhase: 'a', i0OverI1: 0.9, i2OverI1: 0.95, message: 'test (fictional feeder)' });
+    await waitFor(() => accepts.length >= 8, 8_000);
+    const g = gaps(accepts);
+    expect(g[3]!).toBeGreaterThan(g[0]!);
+    expect(Math.min(...g.slice(3))).toBeGreaterThanOrEqual(MAX_MS / 2 - 5);
+    expect(Math.max(...g)).toBeLessThanOrEqual(MAX_MS + SLACK_MS);
+    expect(pub.waiting()).toBe(1);
   });
 });
