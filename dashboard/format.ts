@@ -52,3 +52,9 @@ export const CONDITION_LABEL: Record<string, string> = {
 
 export const SWITCHING_NOTE =
   "Open phases, switching and moving load between phases can injure people and damage equipment. Any action follows the utility's switching procedures, local codes and licensed practice.";
+
+/** The API attaches a caution to open-phase and current-unbalance alarms; live messages carry the bare transition, so the same rule applies here. */
+export function cautionOf(a: { condition: string; caution?: string | null }): string | null {
+  if (a.caution !== undefined && a.caution !== null) return a.caution;
+  return a.condition === 'open-phase' || a.condition === 'current-unbalance' ? SWITCHING_NOTE : null;
+}

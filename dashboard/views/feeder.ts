@@ -7,7 +7,7 @@
 import type { AlarmWire, EventWire, FeederInfo, QuantityWire, ResultWire, Trend } from '../api.js';
 import { api, withToken } from '../api.js';
 import { esc } from '../dom.js';
-import { CONDITION_LABEL, PHASE_LABEL, SWITCHING_NOTE, amps, clock, deg, levelOf, pct, volts } from '../format.js';
+import { CONDITION_LABEL, cautionOf, PHASE_LABEL, SWITCHING_NOTE, amps, clock, deg, levelOf, pct, volts } from '../format.js';
 import { onLive } from '../live.js';
 import { phasorSvg } from '../phasor-diagram.js';
 import { phasePhasors } from '../phases.js';
@@ -254,7 +254,7 @@ export class FeederView implements View {
       .slice()
       .reverse()
       .slice(0, 200)
-      .map((a) => `<tr class="${a.state}"><td class="num">${esc(clock(a.ts))}</td><td>${esc(CONDITION_LABEL[a.condition] ?? a.condition)}${a.phase ? ` · ${esc(PHASE_LABEL[a.phase] ?? a.phase)}` : ''}</td><td class="lvl-${a.state === 'raised' ? a.level : 'ok'}">${esc(a.state)} · ${esc(a.level)}</td><td>${esc(a.message)}${a.caution ? `<div class="muted">${esc(a.caution)}</div>` : ''}</td></tr>`)
+      .map((a) => `<tr class="${a.state}"><td class="num">${esc(clock(a.ts))}</td><td>${esc(CONDITION_LABEL[a.condition] ?? a.condition)}${a.phase ? ` · ${esc(PHASE_LABEL[a.phase] ?? a.phase)}` : ''}</td><td class="lvl-${a.state === 'raised' ? a.level : 'ok'}">${esc(a.state)} · ${esc(a.level)}</td><td>${esc(a.message)}${cautionOf(a) ? `<div class="muted">${esc(cautionOf(a))}</div>` : ''}</td></tr>`)
       .join('')}</tbody></table>`;
   }
 
