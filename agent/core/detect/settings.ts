@@ -99,10 +99,14 @@ export const DEFAULT_DETECTION: DetectionSettings = Object.freeze({
   }),
   openPhase: Object.freeze({
     enabled: true,
+    // 1 s: long enough to ride through a fault's clearing and a phasor estimator's transient, short enough to raise
+    // within 2 s of the condition (the target); 5 s dropout so a reclosing sequence does not clear and re-raise (common practice).
     pickupMs: 1_000,
     dropoutMs: 5_000,
     // A blown fuse leaves at most a few percent of load current (capacitive or backfed): 10 % is clear of that (common practice).
     currentCollapseRatio: 0.1,
+    // 5 A: below it a phase current near zero is ordinary on a feeder (a few single-phase loads); the relay practice of
+    // supervising I2/I1 with a minimum I1 of about 0.1 In (CHECKS.md §7, common practice) scaled to feeder CTs.
     minLoadA: 5,
     // Open phase of a three-wire load gives |I2|/|I1| = 1 exactly (Glover, Sarma & Overbye, Example 8.2);
     // a grounded-wye load gives 0.5 (shared/CHECKS.md vector course-notes-open-phase-b-grounded-wye). 0.4 catches both.
@@ -111,6 +115,7 @@ export const DEFAULT_DETECTION: DetectionSettings = Object.freeze({
     voltageCollapseRatio: 0.6,
     negToPosVoltageRatio: 0.2,
   }),
+  // 30 s: ten missed 3-s values (IEC 61000-4-30 150/180-cycle interval), long enough for a broker reconnect (common practice).
   staleData: Object.freeze({ enabled: true, afterMs: 30_000 }),
   fault: Object.freeze({
     enabled: true,
