@@ -117,6 +117,16 @@ describe('loss of potential through the pipeline (VT fuse-failure logic, common 
     expect(s.diagnostics[0]!.message).toMatch(/not an open phase/);
   });
 
+  it('blocks voltage unbalance while the loss of potential lasts (u2 of the measurement would be 50 %), as relays block voltage elements on VT fuse failure', () => {
+    const s = new FeederStream();
+    const vtFuseBlown: PolarSet = { a: [VLN, 0], b: [25, -120], c: [VLN, 120] };
+    let t = s.run(T0, T0 + 3000, 500, () => ({ v: BUS_V, i: LOAD }));
+    t = s.run(t, t + 180_000, 500, () => ({ v: vtFuseBlown, i: LOAD }));
+    expect(s.aggregates.some((a) => a.window === '3s' && a.v !== null && a.v.u2! > DEFAULT_DETECTION.voltageUnbalance.alarm)).toBe(true);
+    expect(s.alarms).toEqual([]);
+    expect(s.diagnostics.map((d) => d.kind)).toEqual(['loss-of-potential']);
+  });
+
   it('still raises open-phase from voltages when the currents are too light to tell a VT fuse from an open phase', () => {
     const s = new FeederStream();
     const light = scaled(LOAD, 2 / AMPS);

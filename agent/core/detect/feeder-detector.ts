@@ -104,7 +104,10 @@ export class FeederDetector {
     if (r.window !== '3s') return;
     const s = this.settings;
     const now = r.ts + r.durationMs;
-    const v = r.v, i = r.i;
+    // While a loss of potential is diagnosed the voltages are a measurement fault, not the network: voltage
+    // functions are blocked (state held), as relays block voltage-dependent elements on VT fuse failure (common practice).
+    const v = isRaised(this.lop) ? null : r.v;
+    const i = r.i;
     if (s.voltageUnbalance.enabled) this.vu = this.limitStep(out, 'voltage-unbalance', s.voltageUnbalance, this.vu, v === null ? null : v.u2, now);
     if (s.zeroSequenceVoltage.enabled) this.u0 = this.limitStep(out, 'zero-sequence-voltage', s.zeroSequenceVoltage, this.u0, v === null ? null : v.u0, now);
     if (s.currentUnbalance.enabled) {
