@@ -13,13 +13,13 @@ import { SILENT_LOGGER, type SourceLogger } from './logger.js';
 import { SYSTEM_SCHEDULER } from './system-scheduler.js';
 import { DEFAULT_INPUT_PREFIX, prefixProblem } from './topics.js';
 
-/** Each value is a PEM string or the path of a PEM file. */
+/** Each value is a PEM string or the path of a PEM file; null or absent means "not given" (as in the config file). */
 export interface MqttTlsOptions {
-  readonly ca?: string | undefined;
-  readonly cert?: string | undefined;
-  readonly key?: string | undefined;
+  readonly ca?: string | null | undefined;
+  readonly cert?: string | null | undefined;
+  readonly key?: string | null | undefined;
   /** Verify the broker certificate against `ca` (or the system store). Default true. */
-  readonly rejectUnauthorized?: boolean | undefined;
+  readonly rejectUnauthorized?: boolean | null | undefined;
 }
 
 export interface MqttSourceOptions {
@@ -28,10 +28,10 @@ export interface MqttSourceOptions {
   /** Topics `<inputPrefix>/<feeder>/<kind>` are read. Default 'seqmon/in'. */
   readonly inputPrefix?: string | undefined;
   /** Default: 'seqmon-' plus 8 random hex digits. Give a fixed id with clean: false. */
-  readonly clientId?: string | undefined;
-  readonly username?: string | undefined;
-  readonly password?: string | undefined;
-  readonly tls?: MqttTlsOptions | undefined;
+  readonly clientId?: string | null | undefined;
+  readonly username?: string | null | undefined;
+  readonly password?: string | null | undefined;
+  readonly tls?: MqttTlsOptions | null | undefined;
   /** 4 = MQTT 3.1.1, 5 = MQTT 5.0. Default 4. */
   readonly protocolVersion?: 4 | 5 | undefined;
   /** Subscription QoS. Default 1: the broker re-sends until the frame has been handed to the pipeline. */
@@ -116,8 +116,8 @@ function positiveInt(option: string, value: number, max = Number.MAX_SAFE_INTEGE
 }
 
 /** A PEM string is taken as is; anything else is read as a file path. */
-export function loadPem(option: string, value: string | undefined): Buffer | undefined {
-  if (value === undefined) return undefined;
+export function loadPem(option: string, value: string | null | undefined): Buffer | undefined {
+  if (value === undefined || value === null) return undefined;
   if (value.includes('-----BEGIN ')) return Buffer.from(value, 'utf8');
   let text: Buffer;
   try {
@@ -137,7 +137,8 @@ export function resolveSourceOptions(o: MqttSourceOptions): MqttSourceSettings {
     bad('url', `"${o.url}" is not a URL; write it like mqtt://127.0.0.1:1883`);
   }
   if (!URL_SCHEMES.includes(parsed.protocol)) bad('url', `has the scheme "${parsed.protocol}"; use one of ${URL_SCHEMES.join(' ')}`);
-  if (o.tls !== undefined && !TLS_SCHEMES.includes(parsed.protocol)) {
+  const tlsIn = o.tls ?? null;
+  if (tlsIn !== null && !TLS_SCHEMES.includes(parsed.protocol)) {
     bad('tls', `is set but the url scheme is "${parsed.protocol}", which does not use TLS; write mqtts:// (or wss://)`);
   }
   const inputPrefix = o.inputPrefix ?? MQTT_SOURCE_DEFAULTS.inputPrefix;
@@ -149,7 +150,7 @@ export function resolveSourceOptions(o: MqttSourceOptions): MqttSourceSettings {
   const qos = o.qos ?? MQTT_SOURCE_DEFAULTS.qos;
   if (qos !== 0 && qos !== 1) bad('qos', `must be 0 or 1, found ${String(qos)}`);
   const clean = o.clean ?? MQTT_SOURCE_DEFAULTS.clean;
-  if (!clean && (o.clientId === undefined || o.clientId === '')) {
+  if (!clean && (o.clientId === undefined || o.clientId === null || o.clientId === '')) {
     bad('clientId', 'must be given when clean is false: the broker finds the kept session by the client id');
   }
   const clientId = o.clientId ?? `seqmon-${Math.floor(Math.random() * 0x1_0000_0000).toString(16).padStart(8, '0')}`;
@@ -166,13 +167,13 @@ export function resolveSourceOptions(o: MqttSourceOptions): MqttSourceSettings {
   const closeTimeoutMs = positiveInt('closeTimeoutMs', o.closeTimeoutMs ?? MQTT_SOURCE_DEFAULTS.closeTimeoutMs);
 
   const tls: ResolvedTls | null =
-    o.tls === undefined
+    tlsIn === null
       ? null
       : Object.freeze({
-          ca: loadPem('tls.ca', o.tls.ca),
-          cert: loadPem('tls.cert', o.tls.cert),
-          key: loadPem('tls.key', o.tls.key),
-          rejectUnauthorized: o.tls.rejectUnauthorized ?? true,
+          ca: loadPem('tls.ca', tlsIn.ca),
+          cert: loadPem('tls.cert', tlsIn.cert),
+          key: loadPem('tls.key', tlsIn.key),
+          rejectUnauthorized: tlsIn.rejectUnauthorized ?? true,
         });
   if (tls !== null && (tls.cert === undefined) !== (tls.key === undefined)) bad('tls', 'needs both cert and key for a client certificate, or neither');
 
@@ -180,8 +181,8 @@ export function resolveSourceOptions(o: MqttSourceOptions): MqttSourceSettings {
     url: o.url,
     inputPrefix,
     clientId,
-    username: o.username,
-    password: o.password,
+    username: o.username ?? undefined,
+    password: o.password ?? undefined,
     tls,
     protocolVersion,
     qos,
