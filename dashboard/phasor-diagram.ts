@@ -21,7 +21,7 @@ export interface PhasorSet {
 export function phasorSvg(kind: 'v' | 'i', set: PhasorSet | null, format: (x: number) => string): string {
   const rings = [0.5, 1].map((f) => `<circle class="ring" r="${(R * f).toFixed(1)}"/>`).join('');
   const axes = `<line class="axis" x1="-${R + 8}" y1="0" x2="${R + 8}" y2="0"/><line class="axis" x1="0" y1="-${R + 8}" x2="0" y2="${R + 8}"/>`
-    + `<text class="tick" x="${R + 10}" y="3">0°</text><text class="tick" x="-4" y="-${R + 12}">90°</text>`;
+    + `<text class="tick" x="${R + 3}" y="11">0°</text><text class="tick" x="4" y="-${R + 2}">90°</text>`;
   if (set === null || PHASES.every((p) => set[p] === null)) {
     return `<svg viewBox="-120 -120 240 240" role="img" aria-label="no phasors yet">${rings}${axes}<text class="tick" x="0" y="30" text-anchor="middle">no data yet</text></svg>`;
   }

@@ -125,6 +125,9 @@ export class TrendChart {
             ctx.setLineDash([6 * devicePixelRatio, 4 * devicePixelRatio]);
             ctx.lineWidth = 1.5 * devicePixelRatio;
             ctx.font = `${11 * devicePixelRatio}px system-ui, sans-serif`;
+            // uPlot leaves the context right-aligned after drawing the y axis.
+            ctx.textAlign = 'left';
+            ctx.textBaseline = 'bottom';
             for (const [value, colour, name] of [[limits.warning, warn, 'warning'], [limits.alarm, alarm, 'alarm']] as const) {
               const y = Math.round(u.valToPos(value, 'y', true));
               ctx.strokeStyle = colour;

@@ -68,7 +68,7 @@ export class AlarmsView implements View {
       .slice()
       .reverse()
       .slice(0, 500)
-      .map((a) => `<tr class="${a.state}" data-feeder="${esc(a.feeder)}" data-condition="${esc(a.condition)}"><td class="num">${esc(clock(a.ts))}</td><td><a href="#/feeder/${encodeURIComponent(a.feeder)}">${esc(a.feeder)}</a></td><td>${esc(CONDITION_LABEL[a.condition] ?? a.condition)}${a.phase ? ` · ${esc(PHASE_LABEL[a.phase] ?? a.phase)}` : ''}</td><td class="lvl-${a.state === 'raised' ? a.level : 'ok'}">${a.level === 'alarm' ? '◆' : '▲'} ${esc(a.state)} · ${esc(a.level)}</td><td class="num">${a.value === null ? '–' : esc(a.value.toFixed(2))} / ${a.limit === null ? '–' : esc(String(a.limit))}</td><td>${esc(a.message)}${cautionOf(a) ? `<div class="muted">${esc(cautionOf(a))}</div>` : ''}</td></tr>`)
+      .map((a) => `<tr class="${a.state}" data-feeder="${esc(a.feeder)}" data-condition="${esc(a.condition)}"><td class="num">${esc(clock(a.ts))}</td><td><a href="#/feeder/${encodeURIComponent(a.feeder)}">${esc(a.feeder)}</a></td><td>${esc(CONDITION_LABEL[a.condition] ?? a.condition)}${a.phase ? ` · ${esc(PHASE_LABEL[a.phase] ?? a.phase)}` : ''}</td><td class="lvl-${a.state === 'raised' ? a.level : 'ok'}">${a.level === 'alarm' ? '◆' : '▲'} ${esc(a.state)} · ${esc(a.level)}</td><td class="num">${a.value === null ? '–' : esc(a.value.toFixed(2))} / ${a.limit === null ? '–' : esc(String(a.limit))}</td><td>${esc(a.message)}${cautionOf(a) ? `<details class="row-caution"><summary>⚠ caution</summary>${esc(cautionOf(a))}</details>` : ''}</td></tr>`)
       .join('')}</tbody></table>`;
   }
 

@@ -254,7 +254,7 @@ export class FeederView implements View {
       .slice()
       .reverse()
       .slice(0, 200)
-      .map((a) => `<tr class="${a.state}"><td class="num">${esc(clock(a.ts))}</td><td>${esc(CONDITION_LABEL[a.condition] ?? a.condition)}${a.phase ? ` · ${esc(PHASE_LABEL[a.phase] ?? a.phase)}` : ''}</td><td class="lvl-${a.state === 'raised' ? a.level : 'ok'}">${esc(a.state)} · ${esc(a.level)}</td><td>${esc(a.message)}${cautionOf(a) ? `<div class="muted">${esc(cautionOf(a))}</div>` : ''}</td></tr>`)
+      .map((a) => `<tr class="${a.state}"><td class="num">${esc(clock(a.ts))}</td><td>${esc(CONDITION_LABEL[a.condition] ?? a.condition)}${a.phase ? ` · ${esc(PHASE_LABEL[a.phase] ?? a.phase)}` : ''}</td><td class="lvl-${a.state === 'raised' ? a.level : 'ok'}">${esc(a.state)} · ${esc(a.level)}</td><td>${esc(a.message)}${cautionOf(a) ? `<details class="row-caution"><summary>⚠ caution</summary>${esc(cautionOf(a))}</details>` : ''}</td></tr>`)
       .join('')}</tbody></table>`;
   }
 

@@ -124,7 +124,7 @@ describe('dashboard overview', () => {
     await p.waitForSelector('#ov-cards[data-rendered="1"]');
   });
 
-  it('switches to the light theme and remembers it after a reload', async () => {
+  it('switches between light and dark theme and remembers the choice after a reload', async () => {
     const p = await open('/');
     await p.waitForSelector('#ov-cards[data-rendered="4"]');
     const before = await p.getAttribute('html', 'data-theme');
@@ -175,6 +175,11 @@ describe('dashboard feeder view', () => {
     const byPhase = Object.fromEntries(lens.map((l) => [l.phase, l.len]));
     expect(byPhase.a / byPhase.b).toBeCloseTo(mags.a / mags.b, 3);
     expect(byPhase.c / byPhase.b).toBeCloseTo(mags.c / mags.b, 3);
+    await p.evaluate(() => localStorage.setItem('seqmon.theme', 'dark'));
+    await p.reload();
+    await p.waitForSelector('[data-chart="vU2"][data-window="3s"]');
+    await p.screenshot({ path: join(ARTIFACTS, 'feeder-dark.png'), fullPage: true });
+    await p.evaluate(() => localStorage.removeItem('seqmon.theme'));
   });
 
   it('changes the charts when another time range is picked', async () => {
