@@ -54,6 +54,32 @@ describe('MqttSource retry timing on an injected scheduler', () => {
     expect(src.counters().reconnectAttempts).toBe(3);
   });
 
+  test('the log has one line per state change (info, warn for reconnecting); retries go to debug only', async () => {
+    const port = await freePort();
+    const sched = new StepScheduler();
+    const lines: { level: string; msg: string }[] = [];
+    const rec = (level: string) => (_obj: object, msg?: string) => void lines.push({ level, msg: msg ?? '' });
+    const src = new MqttSource({
+      url: `mqtt://127.0.0.1:${port}`,
+      name: 'feeder-bus-1',
+      reconnect: { minMs: 100, maxMs: 1_000 },
+      scheduler: sched,
+      logger: { info: rec('info'), warn: rec('warn'), error: rec('error'), debug: rec('debug') },
+    });
+    td.add(() => src.destroy());
+    await src.start(new FrameCollector());
+    for (let k = 0; k < 3; k++) {
+      await waitFor(() => sched.pending.length === 1, 2_000);
+      sched.fire();
+    }
+    await waitFor(() => sched.pending.length === 1, 2_000);
+    expect(lines.filter((l) => l.level !== 'debug').map((l) => `${l.level} ${l.msg.replace(/ \(.*$/, '')}`)).toEqual([
+      'info mqtt source feeder-bus-1: idle -> connecting',
+      'warn mqtt source feeder-bus-1: connecting -> reconnecting',
+    ]);
+    expect(lines.filter((l) => l.level === 'debug' && l.msg.includes('next connection attempt'))).toHaveLength(4);
+  });
+
   test('destroy() cancels the pending retry', async () => {
     const { src, sched } = await refusedSource();
     await waitFor(() => sched.pending.length === 1, 2_000);
