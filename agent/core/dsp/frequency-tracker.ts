@@ -67,6 +67,13 @@ export class HalfWindowRefiner {
   readonly cycles: number;
   private readonly cos: Float64Array;
   private readonly sin: Float64Array;
+  /**
+   * Set by relativeCorrection(): (|S1|² + |S2|²)·4/M over Σx², summed over the
+   * three phases, where S1, S2 are the half-window DFT sums at the
+   * fundamental. 1 for sinusoids at the trial frequency, near 0 when the
+   * trial frequency is wrong by a whole bin or the input is noise.
+   */
+  fundamentalFraction = 0;
 
   constructor(points: number, cycles: number) {
     if (points % 2 !== 0 || cycles % 2 !== 0) throw new RangeError('half-window refinement needs an even number of points and of cycles');
@@ -92,9 +99,11 @@ export class HalfWindowRefiner {
     const cs = this.cos, sn = this.sin;
     // Half-window DFT sums at the fundamental bin; scale factors cancel in the angle.
     let ar1 = 0, ai1 = 0, br1 = 0, bi1 = 0, cr1 = 0, ci1 = 0;
+    let energy = 0;
     for (let k = 0; k < half; k++) {
       const co = cs[k]!, si = sn[k]!;
       const xa = a[k]!, xb = b[k]!, xc = c[k]!;
+      energy += xa * xa + xb * xb + xc * xc;
       ar1 += xa * co; ai1 -= xa * si;
       br1 += xb * co; bi1 -= xb * si;
       cr1 += xc * co; ci1 -= xc * si;
@@ -103,6 +112,7 @@ export class HalfWindowRefiner {
     for (let k = half; k < this.points; k++) {
       const co = cs[k]!, si = sn[k]!;
       const xa = a[k]!, xb = b[k]!, xc = c[k]!;
+      energy += xa * xa + xb * xb + xc * xc;
       ar2 += xa * co; ai2 -= xa * si;
       br2 += xb * co; bi2 -= xb * si;
       cr2 += xc * co; ci2 -= xc * si;
@@ -112,6 +122,8 @@ export class HalfWindowRefiner {
     const p1i = ai1 + SQRT3_2 * br1 - 0.5 * bi1 - SQRT3_2 * cr1 - 0.5 * ci1;
     const p2r = ar2 - 0.5 * br2 - SQRT3_2 * bi2 - 0.5 * cr2 + SQRT3_2 * ci2;
     const p2i = ai2 + SQRT3_2 * br2 - 0.5 * bi2 - SQRT3_2 * cr2 - 0.5 * ci2;
+    const atFundamental = ar1 * ar1 + ai1 * ai1 + br1 * br1 + bi1 * bi1 + cr1 * cr1 + ci1 * ci1 + ar2 * ar2 + ai2 * ai2 + br2 * br2 + bi2 * bi2 + cr2 * cr2 + ci2 * ci2;
+    this.fundamentalFraction = energy > 0 ? (atFundamental * 4) / (this.points * energy) : 0;
     const largest = Math.max(Math.hypot(ar1, ai1), Math.hypot(br1, bi1), Math.hypot(cr1, ci1));
     // A single live phase still gives |3·X1| = |Xa|; below 5 % the set is essentially not positive sequence.
     if (!(largest > 0) || Math.hypot(p1r, p1i) < 0.05 * largest || Math.hypot(p2r, p2i) < 0.05 * largest) return Number.NaN;

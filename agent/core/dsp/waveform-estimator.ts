@@ -73,6 +73,15 @@ export const TRACKING_RANGE = 0.2;
 /** Iteration stops when the correction is below this, Hz (a hundredth of the 5 mHz IEEE C37.118.1 FE limit). */
 export const FREQUENCY_TOLERANCE_HZ = 5e-5;
 export const MAX_ITERATIONS = 8;
+/**
+ * Lock test: share of the primary channels' energy at the fundamental bin of
+ * the half windows. A sinusoid at the tracked frequency gives 1 (1/(1 + THD²), 0.92 with
+ * 30 % THD); a trial frequency that is an alias (e.g. 47.5 Hz for a 57 Hz
+ * signal, 10-cycle window: 5 trial cycles hold 6 true ones, so both halves
+ * agree in phase) gives almost 0, as does noise. Below one half the
+ * frequency is acquired again from zero crossings.
+ */
+export const MIN_FUNDAMENTAL_FRACTION = 0.5;
 
 const V = 0;
 const I = 3;
@@ -226,15 +235,12 @@ export class WaveformEstimator {
   private nextWindow(emit: (w: BasicWindow) => void): boolean {
     const rate = this.rate, N = this.cycles, M = RESAMPLED_POINTS;
     let f = this.freq;
+    let acquired = false;
     if (!this.locked) {
-      // Acquire: coarse frequency from zero crossings over at least one nominal window.
-      const nominalSpan = (N * rate) / this.nominalHz;
-      if (!this.fits(nominalSpan)) return false;
-      // Always the same span, so the result does not depend on how the samples were split into blocks.
-      const from = Math.floor(this.start);
-      const to = from + Math.floor(nominalSpan);
-      const coarse = coarseFrequencyHz(this.buffers[this.strongestChannel(from, to)]!, from, to, rate);
-      f = Number.isFinite(coarse) ? this.clamp(coarse) : this.nominalHz;
+      const c = this.acquire();
+      if (Number.isNaN(c)) return false;
+      f = c;
+      acquired = true;
     }
     // Refine with the three phases of the primary set (voltages if present), falling back to currents.
     const primary = this.hasV ? V : I;
@@ -242,6 +248,7 @@ export class WaveformEstimator {
     let set = primary;
     // Bit c set: channel c is already resampled on the span of the current f.
     let done = 0;
+    let fraction = 0;
     for (let iter = 0; iter < MAX_ITERATIONS; iter++) {
       if (!this.fits((N * rate) / f)) return false;
       done = this.resampleSet(set, f, 0);
@@ -251,10 +258,26 @@ export class WaveformEstimator {
         done = this.resampleSet(set, f, done);
         rel = this.refiner.relativeCorrection(this.resampled[set]!, this.resampled[set + 1]!, this.resampled[set + 2]!);
       }
+      fraction = this.refiner.fundamentalFraction;
+      if (fraction < MIN_FUNDAMENTAL_FRACTION && !acquired) {
+        // Lock lost: a frequency step beyond the refiner's ±f/N range, or the signal back after an outage. Acquire again.
+        const c = this.acquire();
+        if (Number.isNaN(c)) return false;
+        f = c;
+        acquired = true;
+        set = primary;
+        continue;
+      }
       if (!Number.isFinite(rel)) break; // no usable phase information: hold the frequency
       const next = this.clamp(f * (1 + rel));
       if (Math.abs(next - f) < FREQUENCY_TOLERANCE_HZ) break;
       f = next;
+      done = 0;
+    }
+    const locked = fraction >= MIN_FUNDAMENTAL_FRACTION;
+    if (!locked && f !== this.freq) {
+      // No fundamental to follow (noise only, or a waveform far from a sinusoid): hold the last good frequency.
+      f = this.freq;
       done = 0;
     }
     const span = (N * rate) / f;
@@ -283,10 +306,25 @@ export class WaveformEstimator {
 
     this.start += span;
     this.freq = f;
-    this.locked = true;
+    this.locked = locked;
     this.gapPending = false;
     emit(w);
     return true;
+  }
+
+  /**
+   * Coarse frequency from zero crossings over one nominal window from the
+   * window start (always the same span, so the result does not depend on how
+   * the samples were split into blocks). NaN while those samples have not all
+   * arrived; the nominal frequency when no crossings are found.
+   */
+  private acquire(): number {
+    const nominalSpan = (this.cycles * this.rate) / this.nominalHz;
+    if (!this.fits(nominalSpan)) return Number.NaN;
+    const from = Math.floor(this.start);
+    const to = from + Math.floor(nominalSpan);
+    const coarse = coarseFrequencyHz(this.buffers[this.strongestChannel(from, to)]!, from, to, this.rate);
+    return Number.isFinite(coarse) ? this.clamp(coarse) : this.nominalHz;
   }
 
   private present(c: number): boolean {

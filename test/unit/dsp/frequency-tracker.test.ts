@@ -50,6 +50,18 @@ describe('HalfWindowRefiner', () => {
     expect(Math.abs(48.5 * (1 + rel) - 48)).toBeLessThan(0.05);
   });
 
+  test('the fundamental share of the energy is 1/(1 + THD²) at the right trial frequency and near 0 at an alias one bin away (Parseval)', () => {
+    const r = new HalfWindowRefiner(1024, 10);
+    const spec = balanced(0, 57, { harmonics: [{ order: 5, percent: 20, deg: 0 }] });
+    const [a, b, c] = trial(spec, 57, 1024, 10);
+    r.relativeCorrection(a!, b!, c!);
+    expect(Math.abs(r.fundamentalFraction - 1 / (1 + 0.2 ** 2))).toBeLessThan(1e-9);
+    // 47.5 Hz trial: the halves hold 5 trial cycles but 6 true ones.
+    const [x, y, z] = trial(spec, 47.5, 1024, 10);
+    r.relativeCorrection(x!, y!, z!);
+    expect(r.fundamentalFraction).toBeLessThan(0.05);
+  });
+
   test('all-zero phases give NaN (no phase information), not a correction', () => {
     const r = new HalfWindowRefiner(512, 10);
     const z = new Float64Array(512);

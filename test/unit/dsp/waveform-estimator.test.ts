@@ -21,7 +21,7 @@ import { describe, expect, test } from 'vitest';
 import { WaveformEstimator, type BasicWindow } from '../../../agent/core/dsp/waveform-estimator.js';
 import type { SamplesFrame } from '../../../agent/core/frames.js';
 import { fortescueInto } from '../../../agent/core/sequence/fortescue.js';
-import { makeWave, phaseFromSequence, theta, toFrames, tve, type Harmonic, type Polar, type WaveSpec } from './synthetic-waveforms.js';
+import { gaussian, makeWave, mulberry32, phaseFromSequence, theta, toFrames, tve, type Harmonic, type Polar, type WaveSpec } from './synthetic-waveforms.js';
 
 const TS0 = Date.UTC(2026, 2, 2, 14, 3, 7);
 const U2_U0_ABS_PP = 0.02;
@@ -326,3 +326,38 @@ describe('WaveformEstimator dip, swell and interruption flags (IEC 61000-4-30 §
     expect(w.some((x) => x.dip || x.swell || x.interruption || x.flagged)).toBe(false);
   });
 });
+
+describe('WaveformEstimator frequency lock', () => {
+  test('after 0.6 s of noise only (voltage lost), the frequency is found again when the voltage returns 7 Hz away (beyond the ±5 Hz range of the half-window refinement)', () => {
+    const rate = 6400;
+    const content = CONTENT[1]!;
+    const before = makeWave({ rate, f0: 50, seconds: 1, ...content });
+    const lost = makeWave({ rate, f0: 50, seconds: 0.6, zero: { mag: 0, deg: 0 }, pos: { mag: 0, deg: 0 }, neg: { mag: 0, deg: 0 } });
+    // Noise is specified relative to |X1|, which is zero here: add it directly (0.1 % of the nominal peak).
+    const rand = gaussian(mulberry32(4));
+    for (const p of lost.phases) for (let n = 0; n < p.length; n++) p[n] = 0.001 * 230 * Math.SQRT2 * rand();
+    const afterSpec: WaveSpec = { rate, f0: 57, seconds: 1.4, ...content };
+    const after = makeWave(afterSpec);
+    const joined = (k: number): Float64Array => Float64Array.from([...before.phases[k]!, ...lost.phases[k]!, ...after.phases[k]!]);
+    const wave = { spec: afterSpec, phasors: after.phasors, phases: [joined(0), joined(1), joined(2)] as [Float64Array, Float64Array, Float64Array] };
+    const w = runFrames(toFrames(TS0, rate, wave, null, 128), 50);
+    const resume = TS0 + 1600;
+    // Allow the window holding the return and one more to settle.
+    const settled = w.filter((x) => x.ts > resume + 2 * 250);
+    expect(settled.length).toBeGreaterThan(2);
+    for (const x of settled) expect(Math.abs(x.freq - 57)).toBeLessThan(FREQ_ABS_HZ);
+  });
+
+  test('while only noise is present the last good frequency is held', () => {
+    const rate = 6400;
+    const good = makeWave({ rate, f0: 50.3, seconds: 1, ...CONTENT[0]! });
+    const rand = gaussian(mulberry32(8));
+    const noise = (): Float64Array => Float64Array.from({ length: rate }, () => 0.3 * rand());
+    const wave = { ...good, phases: good.phases.map((p) => Float64Array.from([...p, ...noise()])) as [Float64Array, Float64Array, Float64Array] };
+    const w = runFrames(toFrames(TS0, rate, wave, null, 640), 50);
+    const inNoise = w.filter((x) => x.ts > TS0 + 1000);
+    expect(inNoise.length).toBeGreaterThan(2);
+    for (const x of inNoise) expect(Math.abs(x.freq - 50.3)).toBeLessThan(FREQ_ABS_HZ);
+  });
+});
+
