@@ -19,8 +19,14 @@ const activeAlarms = new Map<string, true>();
 
 function route(): View {
   const hash = location.hash.replace(/^#/, '');
-  const feeder = /^\/feeder\/(.+)$/.exec(hash);
-  if (feeder !== null) return new FeederView(decodeURIComponent(feeder[1]!));
+  const feeder = /^\/feeder\/([^?]+)(?:\?(.*))?$/.exec(hash);
+  if (feeder !== null) {
+    // A deep link may name a range: #/feeder/F1?from=...&to=...&window=3s
+    const q = new URLSearchParams(feeder[2] ?? '');
+    const from = q.get('from'), to = q.get('to');
+    const range = from !== null && to !== null ? { from, to, window: q.get('window') } : null;
+    return new FeederView(decodeURIComponent(feeder[1]!), range);
+  }
   if (hash === '/alarms') return new AlarmsView();
   return new OverviewView();
 }

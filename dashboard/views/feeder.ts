@@ -40,7 +40,13 @@ export class FeederView implements View {
   private events: EventWire[] = [];
   private trendSeq = 0;
 
-  constructor(private readonly id: string) {}
+  constructor(
+    private readonly id: string,
+    /** Range from a deep link (ISO or epoch ms, optional window); shown as a custom range. */
+    private readonly linked: { from: string; to: string; window: string | null } | null = null,
+  ) {
+    if (linked !== null) this.mode = 'custom';
+  }
 
   async mount(el: HTMLElement): Promise<void> {
     this.el = el;
@@ -117,6 +123,15 @@ export class FeederView implements View {
       });
     });
     el.querySelector('#fv-apply')!.addEventListener('click', () => void this.loadTrend());
+    if (this.linked !== null) {
+      el.querySelector<HTMLElement>('#fv-custom')!.hidden = false;
+      const local = (v: string) => {
+        const ms = /^\d+$/.test(v) ? Number(v) : Date.parse(v);
+        return new Date(ms - new Date(ms).getTimezoneOffset() * 60_000).toISOString().slice(0, 16);
+      };
+      el.querySelector<HTMLInputElement>('#fv-from')!.value = local(this.linked.from);
+      el.querySelector<HTMLInputElement>('#fv-to')!.value = local(this.linked.to);
+    }
     this.markRange();
 
     this.off = onLive((m) => {
@@ -174,7 +189,9 @@ export class FeederView implements View {
       case 'custom': {
         const from = Date.parse(this.el!.querySelector<HTMLInputElement>('#fv-from')!.value);
         const to = Date.parse(this.el!.querySelector<HTMLInputElement>('#fv-to')!.value);
-        return `from=${Number.isFinite(from) ? from : now - 24 * HOUR}&to=${Number.isFinite(to) ? to : now}`;
+        const w = this.linked?.window;
+        const window = w === '3s' || w === '10min' || w === '2h' ? `&window=${w}` : '';
+        return `from=${Number.isFinite(from) ? from : now - 24 * HOUR}&to=${Number.isFinite(to) ? to : now}${window}`;
       }
     }
   }
