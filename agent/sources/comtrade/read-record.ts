@@ -31,9 +31,9 @@ export async function readComtradeRecord(path: string, options: ReadOptions = {}
   const dir = dirname(base);
   const stem = basename(base);
   const cfgPath = ext === '.cfg' ? path : await sibling(dir, stem, '.cfg', path);
-  const datPath = ext === '.dat' ? path : await sibling(dir, stem, '.dat', path);
   const cfgText = (await load(cfgPath)).toString('latin1');
   const config = parseCfg(cfgText, { fileName: cfgPath });
+  const datPath = ext === '.dat' ? path : await sibling(dir, stem, '.dat', path);
   const data = parseDat(config, await load(datPath), { fileName: datPath });
   const hdr = await optionalSibling(dir, stem, '.hdr');
   const inf = await optionalSibling(dir, stem, '.inf');
