@@ -158,6 +158,12 @@ export function evaluateOpenPhase(cfg: OpenPhaseSettings, faultPickupA: number |
     voltsPresent = ref > 0 && vk >= collapseLevel;
     const lowWithV2 = ref > 0 && v21Large && vk < LOW_PHASE_VOLTAGE_RATIO * ref;
     if (collapsedSupported || lowWithV2) {
+      // A sagging phase that carries the largest current is a fault below the pickup (or a heavy single-phase load),
+      // not a lost phase: an open phase takes current away from its phase. Nothing to conclude: hold.
+      if (currentsUnbalanced && irms !== null && (k === 0 ? irms.a >= irms.b && irms.a >= irms.c : k === 1 ? irms.b >= irms.a && irms.b >= irms.c : irms.c >= irms.a && irms.c >= irms.b)) {
+        out.reset('unobservable');
+        return;
+      }
       out.reset(irms !== null && currentsHealthy ? 'loss-of-potential' : 'open-phase');
       out.phase = PHASES[k]!;
       if (collapsedSupported) {

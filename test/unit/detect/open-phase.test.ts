@@ -154,6 +154,17 @@ describe('loss of potential (VT fuse-failure logic: voltage unbalance without cu
     expect(f.basis).toBe('voltage-light-load');
   });
 
+  it('does not call a sagging phase that carries the largest current open (a fault below pickup): unobservable', () => {
+    const f = judge({ a: [0.4 * VLN, 0], b: [VLN, -120], c: [VLN, 120] }, { a: [1500, -70], b: [200, -145.8], c: [200, 94.2] });
+    expect(f.verdict).toBe('unobservable');
+  });
+
+  it('reports an open phase from voltages when the sagging phase carries the least current, at 12.5 % of the others (just above the collapse ratio) with |I2|/|I1| ≥ 0.4', () => {
+    const f = judge({ a: [0.4 * VLN, 0], b: [VLN, -120], c: [VLN, 120] }, { a: [25, -25.8], b: [200, -145.8], c: [200, 94.2] });
+    expect(f.verdict).toBe('open-phase');
+    expect(f.basis).toBe('voltage-unbalanced-current');
+  });
+
   it('prefers the current signature when both currents and voltages show the lost phase', () => {
     const f = judge({ a: [VLN, 0], b: [30, -120], c: [VLN, 120] }, { a: [200, -25.8], b: [0, 0], c: [200, 94.2] });
     expect(f.verdict).toBe('open-phase');
