@@ -68,6 +68,66 @@ describe('MqttSource reconnect back-off against a scripted broker', () => {
   });
 });
 
+/**
+ * A minimal MQTT 3.1.1 responder that accepts CONNECT (CONNACK 0) and refuses
+ * every SUBSCRIBE filter with return code 0x80 (MQTT 3.1.1 §3.9.3), as a broker
+ * ACL may do. Packets are read from their fixed header (§2.2).
+ */
+function refuseSubscriptions(s: import('node:net').Socket): void {
+  let buf = Buffer.alloc(0);
+  s.on('data', (chunk: Buffer) => {
+    buf = Buffer.concat([buf, chunk]);
+    for (;;) {
+      if (buf.length < 2) return;
+      let len = 0, mul = 1, k = 1;
+      for (; k < 5 && k < buf.length; k++) {
+        len += (buf[k]! & 0x7f) * mul;
+        mul *= 128;
+        if ((buf[k]! & 0x80) === 0) break;
+      }
+      const total = k + 1 + len;
+      if (buf.length < total) return;
+      const type = buf[0]! >> 4;
+      const body = buf.subarray(k + 1, total);
+      buf = buf.subarray(total);
+      if (type === 1) s.write(Buffer.from([0x20, 0x02, 0x00, 0x00]));
+      else if (type === 8) {
+        // Packet id, then (filter length, filter, options) per subscription.
+        const filters: number[] = [];
+        for (let o = 2; o < body.length; ) {
+          const n = body.readUInt16BE(o);
+          o += 2 + n + 1;
+          filters.push(0x80);
+        }
+        s.write(Buffer.from([0x90, 2 + filters.length, body[0]!, body[1]!, ...filters]));
+      } else if (type === 12) s.write(Buffer.from([0xd0, 0x00]));
+    }
+  });
+}
+
+describe('MqttSource when the broker refuses the subscriptions', () => {
+  const td = new Teardown();
+  afterEach(() => td.run());
+
+  test('the refusal is logged as an error, shown in lastError, and the connection is retried with back-off', async () => {
+    const { port, accepts } = await scriptedBroker(refuseSubscriptions, td);
+    const errors: string[] = [];
+    const noop = (): void => undefined;
+    const src = new MqttSource({
+      url: `mqtt://127.0.0.1:${port}`,
+      reconnect: { minMs: MIN_MS, maxMs: MAX_MS },
+      logger: { info: noop, warn: noop, debug: noop, error: (_o, msg) => void errors.push(msg ?? '') },
+    });
+    td.add(() => src.destroy());
+    await src.start(new FrameCollector());
+    await waitFor(() => accepts.length >= 3, 5_000);
+    expect(src.status().state).not.toBe('connected');
+    expect(src.status().lastError).toMatch(/refused the subscription to seqmon\/in\/\+\/phasor, seqmon\/in\/\+\/rms, seqmon\/in\/\+\/samples/);
+    expect(errors.length).toBeGreaterThanOrEqual(2);
+    expect(src.counters().connects).toBeGreaterThanOrEqual(2);
+  });
+});
+
 describe('MqttPublisher own-connection back-off against a scripted broker', () => {
   const td = new Teardown();
   afterEach(() => td.run());

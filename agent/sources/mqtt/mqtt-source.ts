@@ -205,19 +205,21 @@ export class MqttSource implements FrameSource {
       this.setState('connected', 'session resumed, subscriptions kept by the broker');
       return;
     }
-    this.client.subscribe(this.filters, { qos: this.settings.qos }, (err, granted) => {
+    this.client.subscribe(this.filters, { qos: this.settings.qos }, (err, _subs, suback) => {
       if (generation !== this.generation || this.phase !== 'running') return;
+      // A SUBACK return code with bit 7 set refuses that filter (MQTT 3.1.1 §3.9.3, MQTT 5 §3.9.3).
+      const codes = suback?.granted ?? [];
+      const refused = this.filters.filter((_f, k) => typeof codes[k] === 'number' && ((codes[k] as number) & 0x80) !== 0);
+      if (refused.length > 0) {
+        this.lastError = `the broker refused the subscription to ${refused.join(', ')} (return code 0x${(codes[this.filters.indexOf(refused[0]!)] as number).toString(16)}; check its ACL for this user)`;
+        this.settings.logger.error({ source: this.name, topics: refused }, `mqtt source ${this.name}: ${this.lastError}`);
+        // Drop the connection: the back-off retries, and status() shows why meanwhile.
+        this.client.stream.destroy();
+        return;
+      }
       if (err !== null && err !== undefined) {
         // The connection dropped before SUBACK; onClose schedules the retry.
         this.lastError = `subscribe failed: ${err.message}`;
-        return;
-      }
-      const refused = (granted ?? []).filter((g) => g.qos === 128 || g.qos > 2);
-      if (refused.length > 0) {
-        this.lastError = `the broker refused the subscription to ${refused.map((g) => g.topic).join(', ')} (check its ACL for this user)`;
-        this.settings.logger.error({ source: this.name, topics: refused.map((g) => g.topic) }, `mqtt source ${this.name}: ${this.lastError}`);
-        // Drop the connection: the back-off retries, and status() shows why meanwhile.
-        this.client.stream.destroy();
         return;
       }
       this.lastError = null;
