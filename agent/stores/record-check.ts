@@ -7,7 +7,7 @@
 import { AgentError } from '../core/errors.js';
 import { ALARM_CONDITIONS, FAULT_TYPES, type AlarmTransition, type DisturbanceEvent } from '../core/detect/types.js';
 import { FEEDER_ID_PATTERN } from '../core/frames.js';
-import { AGGREGATE_WINDOWS, type AggregateWindow, type SequenceResult } from '../core/result.js';
+import { AGGREGATE_WINDOWS, type SequenceResult } from '../core/result.js';
 
 const PHASES: readonly string[] = ['a', 'b', 'c'];
 const STATES: readonly string[] = ['raised', 'cleared'];
@@ -54,35 +54,62 @@ function timestamp(x: unknown): void {
   }
 }
 
-function phasor(x: unknown, field: string): void {
-  if (x === null) return;
-  if (!Array.isArray(x) || x.length !== 2) throw new FieldProblem(field, `must be [magnitude, angle] or null, found ${describe(x)}`);
-  finite(x[0], `${field}[0]`);
-  finiteOrNull(x[1], `${field}[1]`);
+/** Field names of one quantity, built once, so checking a record builds no strings unless it fails. */
+interface QuantityNames {
+  readonly self: string;
+  readonly phasors: readonly (readonly [key: 'zero' | 'pos' | 'neg', name: string, magnitude: string, angle: string])[];
+  readonly u2: string;
+  readonly u0: string;
+  readonly triples: readonly (readonly [key: string, name: string, keys: readonly string[], names: readonly string[]])[];
+  readonly lvur: string;
+  readonly pvur: string;
 }
 
-function triple(x: unknown, keys: readonly string[], field: string): void {
-  if (x === null) return;
-  if (typeof x !== 'object' || x === undefined || Array.isArray(x)) throw new FieldProblem(field, `must be an object or null, found ${describe(x)}`);
-  const o = x as Record<string, unknown>;
-  for (const k of keys) finite(o[k], `${field}.${k}`);
+function quantityNames(q: 'v' | 'i'): QuantityNames {
+  const triples: [string, string, readonly string[]][] = [
+    ['rms', `${q}.rms`, PHASES],
+    ['thd', `${q}.thd`, PHASES],
+  ];
+  if (q === 'v') triples.push(['rmsLL', 'v.rmsLL', ['ab', 'bc', 'ca']]);
+  return {
+    self: q,
+    phasors: (['zero', 'pos', 'neg'] as const).map((k) => [k, `${q}.${k}`, `${q}.${k}[0]`, `${q}.${k}[1]`] as const),
+    u2: `${q}.u2`,
+    u0: `${q}.u0`,
+    triples: triples.map(([k, name, keys]) => [k, name, keys, keys.map((c) => `${name}.${c}`)] as const),
+    lvur: `${q}.lvur`,
+    pvur: `${q}.pvur`,
+  };
 }
 
-function quantity(x: unknown, field: string, voltage: boolean): void {
+const V_NAMES = quantityNames('v');
+const I_NAMES = quantityNames('i');
+
+function isObject(x: unknown): x is Record<string, unknown> {
+  return typeof x === 'object' && x !== null && !Array.isArray(x);
+}
+
+function quantity(x: unknown, n: QuantityNames, voltage: boolean): void {
   if (x === null) return;
-  if (typeof x !== 'object' || x === undefined || Array.isArray(x)) throw new FieldProblem(field, `must be an object or null, found ${describe(x)}`);
-  const q = x as Record<string, unknown>;
-  phasor(q.zero, `${field}.zero`);
-  phasor(q.pos, `${field}.pos`);
-  phasor(q.neg, `${field}.neg`);
-  finiteOrNull(q.u2, `${field}.u2`);
-  finiteOrNull(q.u0, `${field}.u0`);
-  triple(q.rms, PHASES, `${field}.rms`);
-  triple(q.thd, PHASES, `${field}.thd`);
+  if (!isObject(x)) throw new FieldProblem(n.self, `must be an object or null, found ${describe(x)}`);
+  for (const [key, name, magnitude, angle] of n.phasors) {
+    const p = x[key];
+    if (p === null) continue;
+    if (!Array.isArray(p) || p.length !== 2) throw new FieldProblem(name, `must be [magnitude, angle] or null, found ${describe(p)}`);
+    finite(p[0], magnitude);
+    finiteOrNull(p[1], angle);
+  }
+  finiteOrNull(x.u2, n.u2);
+  finiteOrNull(x.u0, n.u0);
+  for (const [key, name, keys, names] of n.triples) {
+    const t = x[key];
+    if (t === null) continue;
+    if (!isObject(t)) throw new FieldProblem(name, `must be an object or null, found ${describe(t)}`);
+    for (let k = 0; k < keys.length; k++) finite(t[keys[k]], names[k]);
+  }
   if (voltage) {
-    triple(q.rmsLL, ['ab', 'bc', 'ca'], `${field}.rmsLL`);
-    finiteOrNull(q.lvur, `${field}.lvur`);
-    finiteOrNull(q.pvur, `${field}.pvur`);
+    finiteOrNull(x.lvur, n.lvur);
+    finiteOrNull(x.pvur, n.pvur);
   }
 }
 
@@ -98,8 +125,8 @@ function resultFields(r: SequenceResult): void {
   finiteOrNull(r.freq, 'freq');
   if (typeof r.flagged !== 'boolean') throw new FieldProblem('flagged', `must be true or false, found ${describe(r.flagged)}`);
   if (!Number.isSafeInteger(r.count) || r.count < 0) throw new FieldProblem('count', `must be a whole number >= 0, found ${describe(r.count)}`);
-  quantity(r.v, 'v', true);
-  quantity(r.i, 'i', false);
+  quantity(r.v, V_NAMES, true);
+  quantity(r.i, I_NAMES, false);
 }
 
 function alarmFields(a: AlarmTransition): void {

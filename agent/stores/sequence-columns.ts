@@ -39,23 +39,25 @@ const I0 = V0 + QUANTITY_COLUMNS.length + VOLTAGE_ONLY_COLUMNS.length;
 /** A stored value: booleans are kept as 0/1 so the same row binds to SQLite directly. */
 export type ColumnValue = number | null;
 
+function putPhasor(row: ColumnValue[], k: number, p: PhasorOut | null): void {
+  row[k] = p === null ? null : p[0];
+  row[k + 1] = p === null ? null : p[1];
+}
+
+function putTriple(row: ColumnValue[], k: number, t: PhaseTriple | null): void {
+  row[k] = t === null ? null : t.a;
+  row[k + 1] = t === null ? null : t.b;
+  row[k + 2] = t === null ? null : t.c;
+}
+
 function putQuantity(row: ColumnValue[], at: number, q: QuantityResult): void {
-  const ph = (p: PhasorOut | null, k: number): void => {
-    row[k] = p === null ? null : p[0];
-    row[k + 1] = p === null ? null : p[1];
-  };
-  ph(q.zero, at);
-  ph(q.pos, at + 2);
-  ph(q.neg, at + 4);
+  putPhasor(row, at, q.zero);
+  putPhasor(row, at + 2, q.pos);
+  putPhasor(row, at + 4, q.neg);
   row[at + 6] = q.u2;
   row[at + 7] = q.u0;
-  const tr = (t: PhaseTriple | null, k: number): void => {
-    row[k] = t === null ? null : t.a;
-    row[k + 1] = t === null ? null : t.b;
-    row[k + 2] = t === null ? null : t.c;
-  };
-  tr(q.rms, at + 8);
-  tr(q.thd, at + 11);
+  putTriple(row, at + 8, q.rms);
+  putTriple(row, at + 11, q.thd);
 }
 
 /**
