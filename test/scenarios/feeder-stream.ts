@@ -41,6 +41,13 @@ export class FeederStream {
     this.collect();
   }
 
+  /** One rms frame (magnitudes only, as feeder meters send them): line-to-line voltages and phase currents. */
+  rmsFrame(ts: number, vll: { ab: number; bc: number; ca: number }, i: { a: number; b: number; c: number }): void {
+    this.pipeline.ingest({ feeder: FEEDER, kind: 'rms', payload: { ts, vll, i }, origin: 'scenario' }, this.out);
+    expect(this.out.rejections).toEqual([]);
+    this.collect();
+  }
+
   /** Frames every `stepMs` for from ≤ t < to; returns the first time not sent. */
   run(from: number, to: number, stepMs: number, fn: FrameFn): number {
     let t = from;
