@@ -207,6 +207,26 @@ describe.skipIf(!mosquittoAvailable())('MqttPublisher with a real mosquitto', ()
     await waitFor(() => src.status().state === 'closed' && !src.client.connected, 5_000);
   });
 
+  test('on a connection shared with the source, messages queued while the broker is down go out after the source reconnects', async () => {
+    const b = await broker(true);
+    const { got } = await subscriber(b.url, 'seqmon/out/#', td, { clean: false, clientId: 'seqmon-test-listener-2' });
+    const src = new MqttSource({ url: b.url, reconnect: { minMs: 50, maxMs: 200 } });
+    td.add(() => src.destroy());
+    const loan = src.lendClient();
+    const pub = new MqttPublisher({ client: loan.client, releaseClient: loan.release, closeTimeoutMs: 1_000 });
+    await src.start(new FrameCollector());
+    await waitFor(() => src.status().state === 'connected', 5_000);
+    await b.stop();
+    await waitFor(() => src.status().state === 'reconnecting', 5_000);
+    const base = computedResult();
+    for (let n = 0; n < 10; n++) pub.publishResult({ ...base, ts: base.ts + 20 * n });
+    pub.publishAlarm(alarm('open-phase', 'raised', base.ts));
+    await b.restart();
+    await waitFor(() => got.length === 11, 10_000);
+    expect(got.filter((g) => g.topic.endsWith('/sequence'))).toHaveLength(10);
+    expect(pub.waiting()).toBe(0);
+  });
+
   test('close() waits for acknowledgements, then ends its own connection; later publishes are counted as dropped', async () => {
     const b = await broker();
     const { got } = await subscriber(b.url, 'seqmon/out/#', td);
