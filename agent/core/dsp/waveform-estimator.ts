@@ -75,8 +75,8 @@ export const FREQUENCY_TOLERANCE_HZ = 5e-5;
 export const MAX_ITERATIONS = 8;
 /**
  * Lock test: share of the primary channels' energy at the fundamental bin of
- * the half windows. A sinusoid at the tracked frequency gives 1 (1/(1 + THD²), 0.92 with
- * 30 % THD); a trial frequency that is an alias (e.g. 47.5 Hz for a 57 Hz
+ * the half windows. A sinusoid at the tracked frequency gives 1, a distorted
+ * wave 1/(1 + THD²) (0.92 at 30 % THD); a trial frequency that is an alias (e.g. 47.5 Hz for a 57 Hz
  * signal, 10-cycle window: 5 trial cycles hold 6 true ones, so both halves
  * agree in phase) gives almost 0, as does noise. Below one half the
  * frequency is acquired again from zero crossings.
