@@ -189,7 +189,7 @@ export class FeederDetector {
     } else if (isRaised(before) && !isRaised(this.open)) {
       const phase = this.openPhase;
       this.openPhase = null;
-      this.emit(out, now, 'open-phase', 'cleared', 'alarm', f.value, f.limit, phase, openPhaseClearedMessage(phase ?? 'a', cfg.dropoutMs));
+      this.emit(out, now, 'open-phase', 'cleared', 'alarm', f.value, f.limit, phase, openPhaseClearedMessage(phase, cfg.dropoutMs));
     }
 
     // Loss of potential: a diagnostic with the same timing, never an alarm.

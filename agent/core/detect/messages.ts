@@ -79,8 +79,8 @@ export function openPhaseRaisedMessage(phase: Phase, quantity: string, value: nu
   return `Open phase ${phase}: ${quantity} ${fmt(value)} ${rel} ${fmt(limit)} for ${fmtDuration(pickupMs)}. ${BASIS_NOTE[basis]} ${OPEN_PHASE_HAZARD} ${CAUTION}`;
 }
 
-export function openPhaseClearedMessage(phase: Phase, dropoutMs: number): string {
-  return `Open phase ${phase} cleared: all three phases present for ${fmtDuration(dropoutMs)}. Confirm the cause was found and repaired before relying on it. ${CAUTION}`;
+export function openPhaseClearedMessage(phase: Phase | null, dropoutMs: number): string {
+  return `Open phase${phase === null ? '' : ` ${phase}`} cleared: all three phases present for ${fmtDuration(dropoutMs)}. Confirm the cause was found and repaired before relying on it. ${CAUTION}`;
 }
 
 export function staleRaisedMessage(feeder: string, ageMs: number, afterMs: number): string {
