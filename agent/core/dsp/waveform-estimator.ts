@@ -23,6 +23,7 @@
  * one buffer per channel. After warm-up (first block at a given rate) nothing
  * is allocated per window.
  */
+import { AgentError } from '../errors.js';
 import type { SamplesFrame } from '../frames.js';
 import { Fft } from './fft.js';
 import { coarseFrequencyHz, HalfWindowRefiner } from './frequency-tracker.js';
@@ -166,6 +167,8 @@ export class WaveformEstimator {
     while (offset < frame.length) {
       if (this.capacity - this.length < frame.length - offset) this.compact();
       const n = Math.min(frame.length - offset, this.capacity - this.length);
+      // Cannot happen while the capacity exceeds the longest window plus taps; refuse rather than spin.
+      if (n === 0) throw new AgentError('INTERNAL', `basic-window buffer of ${this.capacity} samples is full at ${this.rate} samples/s with no window to take out`);
       if (frame.v !== null) for (let c = 0; c < 3; c++) this.buffers[V + c]!.set(frame.v[c]!.subarray(offset, offset + n), this.length);
       if (frame.i !== null) for (let c = 0; c < 3; c++) this.buffers[I + c]!.set(frame.i[c]!.subarray(offset, offset + n), this.length);
       this.length += n;
