@@ -184,6 +184,18 @@ describe('WaveformEstimator windows', () => {
     for (const x of w) expect(Math.abs((x.durationMs / 1000) * x.freq - 12)).toBeLessThan(1e-9);
   });
 
+  test.each([
+    [50, 49.5, 202.02],
+    [50, 50.5, 198.02],
+    [60, 59.5, 201.681],
+    [60, 60.5, 198.347],
+  ] as const)('a %i Hz system at %f Hz has basic windows of %f ms (CHECKS.md §3, computed with mathjs; printed to 3 decimals)', (nominal, f, ms) => {
+    const s: WaveSpec = { rate: 6000, f0: f, seconds: 1.5, ...CONTENT[1]! };
+    const w = runFrames(toFrames(TS0, s.rate, makeWave(s), null, 600), nominal);
+    expect(w.length).toBeGreaterThan(4);
+    for (const x of w) expect(Math.abs(x.durationMs - ms)).toBeLessThan(5e-4);
+  });
+
   test('windows span 10 cycles at 50 Hz and the first starts within the first millisecond of the data', () => {
     const s: WaveSpec = { ...specOf(CASES[0]!) };
     const w = runFrames(toFrames(TS0, s.rate, makeWave(s), null, 128), 50);
