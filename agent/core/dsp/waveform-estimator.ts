@@ -11,7 +11,10 @@
  *    fundamental symmetrical components) and harmonic magnitudes for THD;
  *  - true RMS from the raw samples over the window (§5.2);
  *  - Urms(1/2) per voltage channel, one cycle refreshed every half cycle
- *    (§5.4.1), for the dip, swell and interruption flags (§5.4, §4.7).
+ *    (§5.4.1), for the dip, swell and interruption flags (§5.4, §4.7). The
+ *    standard starts these cycles at a zero crossing of the fundamental; here
+ *    they start at the window start, which leaves the one-cycle RMS of a
+ *    steady wave unchanged and moves event edges by less than half a cycle.
  *
  * Phasor reference: each phasor is RMS, rectangular, with its angle relative
  * to a cosine at the window's frequency that peaks at the window's first
