@@ -155,9 +155,9 @@ export const WRENMOOR_FEEDERS: readonly SimFeeder[] = Object.freeze([
     threePhaseShape: 'commercial',
     powerFactor: 0.92,
     laterals: [
-      { name: 'Kiln A', phase: 'a', peakKw: 300, shape: 'commercial', fuse: null },
-      { name: 'Pottery B', phase: 'b', peakKw: 240, shape: 'commercial', fuse: null },
-      { name: 'Lane end C', phase: 'c', peakKw: 410, shape: 'residential', fuse: null },
+      { name: 'Kiln A', phase: 'a', peakKw: 260, shape: 'commercial', fuse: null },
+      { name: 'Lane end B', phase: 'b', peakKw: 180, shape: 'residential', fuse: null },
+      { name: 'Pottery C', phase: 'c', peakKw: 320, shape: 'commercial', fuse: null },
     ],
     faults: null,
     harmonics: [],
