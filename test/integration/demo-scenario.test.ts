@@ -16,9 +16,7 @@ async function run(feeder: string, from: number, to: number): Promise<PipelineOu
   const all = createOutput();
   const out = createOutput();
   for (let t = from; t < to; t += 1_000) {
-    for (const f of sim.framesBetween(t, t + 1_000)) {
-      if (f.feeder === feeder) pipeline.ingest({ feeder: f.feeder, kind: f.kind, payload: f.payload, origin: 'simulator' }, out);
-    }
+    for (const f of sim.framesBetween(t, t + 1_000, feeder)) pipeline.ingest({ feeder: f.feeder, kind: f.kind, payload: f.payload, origin: 'simulator' }, out);
     pipeline.tick(t + 1_000, out);
     all.alarms.push(...out.alarms);
     all.events.push(...out.events);

@@ -292,10 +292,10 @@ export class SubstationSimulator {
     }
   }
 
-  /** Every frame due in (fromExclusive, toInclusive], oldest first; timestamps are multiples of each feeder's period. */
-  framesBetween(fromExclusive: number, toInclusive: number): SimulatedFrame[] {
+  /** Every frame due in (fromExclusive, toInclusive], oldest first; timestamps are multiples of each feeder's period. Optionally of one feeder only. */
+  framesBetween(fromExclusive: number, toInclusive: number, feederId?: string): SimulatedFrame[] {
     const out: SimulatedFrame[] = [];
-    for (const f of this.feeders) {
+    for (const f of feederId === undefined ? this.feeders : [this.entry(feederId).feeder]) {
       for (let k = Math.floor(fromExclusive / f.periodMs) + 1; k * f.periodMs <= toInclusive; k++) out.push(this.frame(f.id, k * f.periodMs));
     }
     out.sort((a, b) => a.ts - b.ts);

@@ -75,6 +75,12 @@ describe('fictional substation simulator: frames', () => {
     }
   });
 
+  test('frames of one feeder can be asked for alone', () => {
+    const frames = sim.framesBetween(ORIGIN, ORIGIN + 1_000, 'WM-106');
+    expect(frames.map((f) => [f.feeder, f.ts])).toEqual([['WM-106', ORIGIN + 1_000]]);
+    expect(() => sim.framesBetween(ORIGIN, ORIGIN + 1_000, 'XX-1')).toThrow(/no feeder XX-1/);
+  });
+
   test('frames are in time order and stamped on multiples of each feeder period', () => {
     const frames = sim.framesBetween(ORIGIN + 5_050, ORIGIN + 7_000);
     for (let k = 1; k < frames.length; k++) expect(frames[k]!.ts).toBeGreaterThanOrEqual(frames[k - 1]!.ts);
