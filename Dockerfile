@@ -33,9 +33,11 @@ RUN npm run build \
 
 # -------------------------------------------------------------- runtime ----
 FROM ${NODE_IMAGE} AS runtime
+# Environment overrides win over the file: the host makes the published port reachable, the data folder keeps
+# everything on the volume. The port is left to the file (8080 by default); if you change it, set SEQMON_HTTP_PORT
+# instead so the health check follows.
 ENV NODE_ENV=production \
     SEQMON_HTTP_HOST=0.0.0.0 \
-    SEQMON_HTTP_PORT=8080 \
     SEQMON_DATA_DIR=/var/lib/seqmon
 RUN groupadd --system seqmon \
  && useradd --system --gid seqmon --home-dir /var/lib/seqmon --no-create-home --shell /usr/sbin/nologin seqmon
