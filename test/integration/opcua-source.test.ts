@@ -165,6 +165,22 @@ describe('OpcuaSource frame assembly (security None)', () => {
     await src.close();
   });
 
+  it('logs a node that cannot be monitored, naming its feeder, and keeps the other feeders running', async () => {
+    const warnings: string[] = [];
+    const sink = new CollectingSink();
+    const broken: RmsFeeder = { id: 'F3', kind: 'rms', nodes: { i: { a: n('F2.Ia'), b: n('F2.Ib'), c: n('NoSuchNode') } } };
+    const src = new OpcuaSource(options(server.endpointUrl, { certificateFolder: clientPki, feeders: [F1, broken], logger: { info: () => undefined, warn: (m) => warnings.push(m) } }));
+    td.add(() => src.destroy());
+    await src.start(sink);
+    await waitFor(() => src.status().state === 'connected', 10_000);
+    await sleep(200);
+    expect(warnings.join('\n')).toMatch(/node ns=1;s=NoSuchNode \(feeder F3, i\.c\) cannot be monitored: BadNodeIdUnknown/);
+    const t0 = Date.now() + 1_000;
+    writeF1(server, t0, 0);
+    await waitFor(() => sink.frames.some((f) => f.feeder === 'F1' && (f.payload as { ts: number }).ts === t0), 5_000);
+    await src.close();
+  });
+
   it('skips values with a Bad status and counts them', async () => {
     const sink = new CollectingSink();
     const src = new OpcuaSource(options(server.endpointUrl, { certificateFolder: clientPki }));
@@ -179,11 +195,16 @@ describe('OpcuaSource frame assembly (security None)', () => {
   });
 });
 
-describe('OpcuaSource security and life cycle', () => {
+describe('OpcuaSource security (SignAndEncrypt, Basic256Sha256, user name and password)', () => {
+  let server: TestServer;
+  let port = 0;
+  beforeAll(async () => {
+    port = await freePort();
+    server = await startOpcuaTestServer({ port, pkiDir: join(root, `server-sec-${port}`), nodes: ALL_NODES, secure: { username: 'operator', password: 'fictional-pass' } });
+  });
+  afterAll(() => server.stop());
+
   it('reads over SignAndEncrypt with Basic256Sha256 and a user name and password', async () => {
-    const port = await freePort();
-    const server = await startOpcuaTestServer({ port, pkiDir: join(root, `server-sec-${port}`), nodes: ALL_NODES, secure: { username: 'operator', password: 'fictional-pass' } });
-    td.add(() => server.stop());
     const sink = new CollectingSink();
     const src = new OpcuaSource(
       options(server.endpointUrl, {
@@ -205,9 +226,6 @@ describe('OpcuaSource security and life cycle', () => {
   });
 
   it('does not connect with a wrong password and reports why', async () => {
-    const port = await freePort();
-    const server = await startOpcuaTestServer({ port, pkiDir: join(root, `server-pw-${port}`), nodes: ALL_NODES, secure: { username: 'operator', password: 'fictional-pass' } });
-    td.add(() => server.stop());
     const src = new OpcuaSource(
       options(server.endpointUrl, {
         securityMode: 'SignAndEncrypt',
@@ -224,7 +242,9 @@ describe('OpcuaSource security and life cycle', () => {
     await src.close();
     expect(src.status().state).toBe('closed');
   });
+});
 
+describe('OpcuaSource life cycle', () => {
   it('reconnects after a server restart and frames resume', async () => {
     const port = await freePort();
     const pki = join(root, `server-restart-${port}`);

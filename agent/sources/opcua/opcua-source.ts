@@ -114,10 +114,14 @@ export class OpcuaSource implements FrameSource {
   private lastActivity = 0;
   private lastValueAt = 0;
   private wake: (() => void) | null = null;
+  /** Resolves when close()/destroy() is called, so a connect still retrying inside node-opcua does not hold the loop. */
+  private readonly stopSignal: Promise<void>;
+  private signalStop: () => void = () => undefined;
   private broken: ((reason: string) => void) | null = null;
 
   constructor(private readonly options: OpcuaSourceOptions, scheduler: Scheduler = realScheduler) {
     validateOpcuaOptions(options);
+    this.stopSignal = new Promise((resolve) => (this.signalStop = resolve));
     this.scheduler = scheduler;
     this.name = `opcua:${options.endpointUrl}`;
     this.since = scheduler.now();
@@ -164,12 +168,12 @@ export class OpcuaSource implements FrameSource {
   async close(): Promise<void> {
     if (this.stopped) return;
     this.stopped = true;
+    this.signalStop();
     this.stopTimers();
     this.broken?.('closing');
     this.wake?.();
+    await this.loop;
     await this.teardown();
-    // A connect() still retrying inside node-opcua ends with the disconnect above; bound the wait all the same.
-    await Promise.race([this.loop, new Promise((r) => setTimeout(r, 3_000))]);
     for (const a of this.assemblers.values()) a.dropAll();
     // Flush what the pipeline has not taken yet: nothing already assembled is lost on a graceful close.
     this.paused = false;
@@ -180,6 +184,7 @@ export class OpcuaSource implements FrameSource {
   destroy(err?: Error): void {
     if (this.stopped && (this.state === 'closed' || this.state === 'failed')) return;
     this.stopped = true;
+    this.signalStop();
     this.stopTimers();
     this.broken?.('destroyed');
     this.wake?.();
@@ -219,7 +224,7 @@ export class OpcuaSource implements FrameSource {
       let reason: string;
       try {
         const done = new Promise<string>((resolve) => (this.broken = resolve));
-        await this.connectOnce();
+        await Promise.race([this.connectOnce(), this.stopSignal]);
         if (this.stopped) break;
         attempt = 0;
         this.setState('connected');
