@@ -108,8 +108,12 @@ function lineLookup(doc: Document, lc: LineCounter): LineOf {
   };
 }
 
+/** Top-level sections; a section header with every key under it commented out parses as null and counts as empty. */
+const SECTIONS = ['logging', 'mqtt', 'opcua', 'store', 'http', 'feeders', 'simulator'];
+
 function buildConfig(raw: Raw, file: string | null, lineOf: LineOf, env: Env, cwd: string): SeqmonConfig {
   const where = file ?? 'the built-in defaults';
+  for (const key of SECTIONS) if (raw[key] === null) delete raw[key];
   for (const o of readEnvOverrides(env)) o.apply(raw);
 
   const schema = checkAgainstSchema(raw, lineOf);

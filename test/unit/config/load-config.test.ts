@@ -42,6 +42,12 @@ describe('defaults', () => {
     expect({ ...parse(''), source: null }).toEqual(none);
   });
 
+  test('a section header with every key commented out counts as an empty section', () => {
+    const c = parse('mqtt:\n#  url: mqtt://10.0.0.1:1883\nhttp:\n');
+    expect(c.mqtt.url).toBe('mqtt://127.0.0.1:1883');
+    expect(c.http.port).toBe(8080);
+  });
+
   test('the loaded configuration is deep-frozen', () => {
     const c = parse('feeders:\n  list:\n    - id: F1\n');
     expect(Object.isFrozen(c)).toBe(true);
