@@ -52,6 +52,7 @@ export const trendQuery = {
     from: instant,
     to: instant,
     window: { type: 'string', enum: [...AGGREGATE_WINDOWS], description: 'chosen from the span when absent' },
+    fields: { type: 'string', description: 'comma-separated column names to return (JSON only); all when absent' },
     token: { type: 'string' },
   },
   additionalProperties: false,

@@ -3,9 +3,9 @@
  * row with units in the column names, preceded by a caution comment line).
  */
 import type { SequenceResult } from '../core/result.js';
-import { isoTime, roundForWire } from '../core/result.js';
+import { isoTime } from '../core/result.js';
 import { CSV_CAUTION } from './cautions.js';
-import { TREND_NUMERIC_COLUMNS } from './trend-columns.js';
+import { DECIMALS, TREND_NUMERIC_COLUMNS, fixed } from './trend-columns.js';
 
 const HEADER_NAMES: Record<string, string> = {
   ia: 'i_a_A', ib: 'i_b_A', ic: 'i_c_A',
@@ -28,7 +28,7 @@ export function csvRow(r: SequenceResult): string {
   let line = isoTime(r.ts);
   for (const c of TREND_NUMERIC_COLUMNS) {
     const x = c.pick(r);
-    line += x === null ? ',' : `,${roundForWire(x)}`;
+    line += x === null ? ',' : `,${fixed(x, DECIMALS[c.unit])}`;
   }
   return `${line},${r.flagged ? 1 : 0}\n`;
 }

@@ -216,7 +216,7 @@ describe('dashboard feeder view', () => {
     // The export covers the range the charts show.
     expect(rows.length).toBe(shownPoints);
     const ts = Date.parse(rows[0]!.split(',')[0]!);
-    expect(Number(rows[0]!.split(',')[header.indexOf('v_u2_pct')])).toBeCloseTo(DEMO_PROFILES[0]!.vU2(ts), 6);
+    expect(Number(rows[0]!.split(',')[header.indexOf('v_u2_pct')])).toBeCloseTo(DEMO_PROFILES[0]!.vU2(ts), 4);
   });
 
   it('lays out for a tablet in portrait', async () => {
