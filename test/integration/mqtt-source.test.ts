@@ -213,6 +213,39 @@ describe.skipIf(!mosquittoAvailable())('MqttSource with a real mosquitto', () =>
     expect(sched.requested).toEqual([100, 200, 400, 800, 1_000, 100]);
   });
 
+  test('close() while the sink is paused waits for its drain before ending', async () => {
+    const sink = new FrameCollector();
+    sink.pauseAfter = 1;
+    const { src } = source({ closeTimeoutMs: 5_000 });
+    await src.start(sink);
+    await waitFor(() => src.status().state === 'connected', 5_000);
+    const pub = await publisher(broker.url, td);
+    await pub.publishAsync('seqmon/in/F1/phasor', numbered(0), { qos: 1 });
+    await waitFor(() => sink.frames.length === 1, 5_000);
+    let closed = false;
+    const closing = src.close().then(() => (closed = true));
+    await new Promise((r) => setTimeout(r, 200));
+    expect(closed).toBe(false);
+    sink.drain();
+    await closing;
+    expect(src.status().state).toBe('closed');
+  });
+
+  test('close() with a sink that never drains still ends after closeTimeoutMs', async () => {
+    const sink = new FrameCollector();
+    sink.pauseAfter = 1;
+    const { src } = source({ closeTimeoutMs: 300 });
+    await src.start(sink);
+    await waitFor(() => src.status().state === 'connected', 5_000);
+    const pub = await publisher(broker.url, td);
+    await pub.publishAsync('seqmon/in/F1/phasor', numbered(0), { qos: 1 });
+    await waitFor(() => sink.frames.length === 1, 5_000);
+    const t0 = Date.now();
+    await src.close();
+    expect(Date.now() - t0).toBeLessThan(3_000);
+    expect(src.status().state).toBe('closed');
+  });
+
   test('destroy(err) ends at once, reports failed with the reason, and is idempotent', async () => {
     const sink = new FrameCollector();
     const { src } = source();
