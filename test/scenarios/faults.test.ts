@@ -48,7 +48,7 @@ describe('faults through the pipeline', () => {
   it('reports a fuse that blew on a phase-c fault: the CG event, then open-phase c within 2 s of the fuse clearing', () => {
     const s = new FeederStream();
     const fault = { v: faultPhaseVoltages('CG', NET, 0.5), i: faultPhaseCurrents('CG', NET, 0.5, LOAD_SPEC) };
-    const fuseOpen: PolarSet = { ...LOAD, c: [0, 0] }; // grounded-wye load keeps phases a and b (course notes Ex. 2 signature)
+    const fuseOpen: PolarSet = { ...LOAD, c: [0, 0] }; // grounded-wye load keeps phases a and b (published worked example "Examples" Ex. 2 (scribd 906678531) signature)
     let t = s.run(T0, T0 + 500, FRAME_MS, () => ({ v: BUS_V, i: LOAD }));
     const start = t;
     t = s.run(t, t + 60, FRAME_MS, () => fault);

@@ -4,8 +4,7 @@
  * the condition in the data), dropout 5 s, current collapse below 10 % of the
  * other two (common practice), minLoadA 5 A, |I2|/|I1| ≥ 0.4.
  * Signatures (shared/CHECKS.md §7): a grounded-wye load with one phase open
- * keeps its other two phase currents, |I2|/|I1| = 0.5 (course notes Ex. 2,
- * published); a delta load fed through two lines carries Ib = −Ic, |I2|/|I1| = 1
+ * keeps its other two phase currents, |I2|/|I1| = 0.5 (published worked example "Examples" Ex. 2 (scribd 906678531)); a delta load fed through two lines carries Ib = −Ic, |I2|/|I1| = 1
  * (Glover, Sarma & Overbye Ex. 8.2), each 0.866 of the normal line current
  * (the two remaining paths Z and 2Z in parallel across one line voltage:
  * 1.5/√3; circuit analysis).

@@ -9,7 +9,7 @@
  *   load. For a three-wire (delta or ungrounded) load Ia = 0 and I0 = 0 give
  *   I1 = −I2, so |I2|/|I1| = 1 exactly (Glover, Sarma & Overbye, Ex. 8.2,
  *   vector open-phase-a-three-wire-load-currents); a grounded-wye load gives
- *   0.5 (course notes Ex. 2, vector course-notes-open-phase-b-grounded-wye).
+ *   0.5 (published worked example "Examples" Ex. 2 (scribd 906678531); the phase-b-open check vector).
  * - Voltages (measured downstream of the open point): the lost phase
  *   collapses — to 0 on a grounded-wye static load, to 0.5 pu on a delta load
  *   (vectors open-phase-a-load-side-voltage-grounded-wye-no-backfeed,

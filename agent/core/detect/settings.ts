@@ -109,7 +109,7 @@ export const DEFAULT_DETECTION: DetectionSettings = Object.freeze({
     // supervising I2/I1 with a minimum I1 of about 0.1 In (CHECKS.md §7, common practice) scaled to feeder CTs.
     minLoadA: 5,
     // Open phase of a three-wire load gives |I2|/|I1| = 1 exactly (Glover, Sarma & Overbye, Example 8.2);
-    // a grounded-wye load gives 0.5 (shared/CHECKS.md vector course-notes-open-phase-b-grounded-wye). 0.4 catches both.
+    // a grounded-wye load gives 0.5 (shared/CHECKS.md §7, published worked example "Examples" Ex. 2 (scribd 906678531)). 0.4 catches both.
     negToPosCurrentRatio: 0.4,
     // Below 60 % of nominal the phase is not merely sagging (common practice; dips are 10–90 % per IEC 61000-4-30).
     voltageCollapseRatio: 0.6,

@@ -2,7 +2,7 @@
  * Open-phase verdict of a single result, on the default settings
  * (agent/core/detect/settings.ts): current collapse below 10 % of the other
  * two (common practice), minLoadA 5 A, |I2|/|I1| ≥ 0.4 (three-wire open phase
- * gives 1, Glover Ex. 8.2; grounded wye gives 0.5, course notes Ex. 2),
+ * gives 1, Glover Ex. 8.2; grounded wye gives 0.5, published worked example "Examples" Ex. 2 (scribd 906678531)),
  * voltage collapse below 60 % of nominal (common practice), |V2|/|V1| ≥ 0.2.
  * Signatures from shared/CHECKS.md §7 and check-vectors.json, named per test.
  */
@@ -10,7 +10,7 @@ import { describe, expect, it } from 'vitest';
 import { evaluateOpenPhase, OpenPhaseFinding } from '../../../agent/core/detect/open-phase.js';
 import { DEFAULT_DETECTION } from '../../../agent/core/detect/settings.js';
 import type { PolarSet } from './results.js';
-import { balanced, checkVector, result, scaled } from './results.js';
+import { balanced, checkVector, result, scaled, vectorWithInputs } from './results.js';
 
 const OP = DEFAULT_DETECTION.openPhase;
 const PICKUP_A = DEFAULT_DETECTION.fault.pickupA;
@@ -52,8 +52,8 @@ describe('current signature', () => {
     expect(f.value).toBeCloseTo(1, 9);
   });
 
-  it('names phase b with I2/I1 = 0.5 for course-notes-open-phase-b-grounded-wye (published course notes Ex. 2)', () => {
-    const f = judge(null, checkVector('course-notes-open-phase-b-grounded-wye').inputs);
+  it('names phase b with I2/I1 = 0.5 for the grounded-wye load with phase b open, 10∠0°, 0, 10∠120° A (published worked example "Examples" Ex. 2 (scribd 906678531))', () => {
+    const f = judge(null, vectorWithInputs({ a: [10, 0], b: [0, 0], c: [10, 120] }).inputs);
     expect(f.verdict).toBe('open-phase');
     expect(f.phase).toBe('b');
     expect(f.value).toBeCloseTo(0.5, 9);

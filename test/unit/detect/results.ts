@@ -109,3 +109,12 @@ export function checkVector(name: string): CheckVector {
   if (v === undefined) throw new Error(`check vector ${name} not found`);
   return v;
 }
+
+/** The check vector whose inputs are exactly these phasors (a published problem is identified by its statement). */
+export function vectorWithInputs(inputs: PolarSet): CheckVector {
+  checkVector('fault-slg-a-g');
+  const same = (x: Polar, y: Polar): boolean => x[0] === y[0] && x[1] === y[1];
+  const v = vectors!.find((x) => same(x.inputs.a, inputs.a) && same(x.inputs.b, inputs.b) && same(x.inputs.c, inputs.c));
+  if (v === undefined) throw new Error('no check vector has these inputs');
+  return v;
+}
