@@ -44,7 +44,8 @@ export function createLogger(options: LoggerOptions): Logger {
       timestamp: pino.stdTimeFunctions.isoTime,
       base: { pid: process.pid },
     },
-    options.destination ?? pino.destination({ fd: 1, sync: false }),
+    // Synchronous writes: seqmon logs state changes, not frames, so the cost is small, and no line is lost on a crash.
+    options.destination ?? pino.destination({ fd: 1, sync: true }),
   );
 }
 
