@@ -70,8 +70,8 @@ describe('MqttSource reconnect back-off against a scripted broker', () => {
 
 /**
  * A minimal MQTT 3.1.1 responder that accepts CONNECT (CONNACK 0) and refuses
- * every SUBSCRIBE filter with return code 0x80 (MQTT 3.1.1 §3.9.3), as a broker
- * ACL may do. Packets are read from their fixed header (§2.2).
+ * every SUBSCRIBE filter with return code 0x80 (MQTT 3.1.1 §3.9.3, from memory), as a
+ * broker ACL may do. Packets are read from their fixed header (§2.2, from memory).
  */
 function refuseSubscriptions(s: import('node:net').Socket): void {
   let buf = Buffer.alloc(0);

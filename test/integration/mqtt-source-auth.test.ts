@@ -1,7 +1,7 @@
 /**
  * Username/password against mosquitto with allow_anonymous false and a
  * password file made by mosquitto_passwd for this test. A refused CONNACK
- * (MQTT 3.1.1 §3.2.2.3, return code 5 "not authorized") is retried with the
+ * (MQTT 3.1.1 §3.2.2.3, return code 5 "not authorized", from memory) is retried with the
  * back-off, and status() says why.
  */
 import { execFileSync } from 'node:child_process';

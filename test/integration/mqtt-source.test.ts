@@ -137,7 +137,7 @@ describe.skipIf(!mosquittoAvailable())('MqttSource with a real mosquitto', () =>
   });
 
   test('a QoS 1 frame is acknowledged only after the sink has taken it', async () => {
-    // With a persistent session, a frame the source never acknowledged is sent again after reconnect (MQTT 3.1.1 §4.4).
+    // With a persistent session, a frame the source never acknowledged is sent again after reconnect (MQTT 3.1.1 §4.4, from memory).
     const sink = new FrameCollector();
     sink.pauseAfter = 1;
     const first = source({ clean: false, clientId: 'seqmon-test-ack' });

@@ -1,7 +1,7 @@
 /**
  * Reconnect back-off: exponential with "equal jitter", delay n in [cap/2, cap],
  * cap = min(maxMs, minMs * 2^n) (AWS Architecture Blog, "Exponential Backoff
- * And Jitter", 2015). The random source is pinned so each bound is exact.
+ * And Jitter", 2015, from memory). The random source is pinned so each bound is exact.
  */
 import { describe, expect, test } from 'vitest';
 import { ExponentialBackoff } from '../../../agent/sources/mqtt/backoff.js';

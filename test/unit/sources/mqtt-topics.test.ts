@@ -1,4 +1,4 @@
-/** Input topics `<prefix>/<feeder>/<kind>` (shared/ARCHITECTURE.md, "Input frames"); topic rules from MQTT 3.1.1 §4.7. */
+/** Input topics `<prefix>/<feeder>/<kind>` (shared/ARCHITECTURE.md, "Input frames"); topic rules from MQTT 3.1.1 §4.7 (from memory). */
 import { describe, expect, test } from 'vitest';
 import { inputFilters, parseInputTopic, prefixProblem } from '../../../agent/sources/mqtt/topics.js';
 
@@ -17,7 +17,7 @@ describe('input topics', () => {
 
   test('a feeder level that is not a valid id is still passed on, for the validator to reject and count', () => {
     expect(parseInputTopic('seqmon/in', 'seqmon/in/bad feeder!/phasor')).toEqual({ feeder: 'bad feeder!', kind: 'phasor' });
-    // "+" matches an empty level too (MQTT 3.1.1 §4.7.1.3).
+    // "+" matches an empty level too (MQTT 3.1.1 §4.7.1.3, from memory).
     expect(parseInputTopic('seqmon/in', 'seqmon/in//rms')).toEqual({ feeder: '', kind: 'rms' });
   });
 
