@@ -107,6 +107,7 @@ export class OpcuaSource implements FrameSource {
   private stopped = false;
   private loop: Promise<void> | null = null;
   private client: OPCUAClient | null = null;
+  private certificateManager: OPCUACertificateManager | null = null;
   private session: ClientSession | null = null;
   private subscription: ClientSubscription | null = null;
   private group: ClientMonitoredItemGroup | null = null;
@@ -188,12 +189,13 @@ export class OpcuaSource implements FrameSource {
     this.stopTimers();
     this.broken?.('destroyed');
     this.wake?.();
-    const client = this.client;
+    const client = this.client, pki = this.certificateManager;
     this.client = null;
+    this.certificateManager = null;
     this.session = null;
     this.subscription = null;
     this.group = null;
-    client?.disconnect().catch(() => undefined);
+    client?.disconnect().then(() => pki?.dispose()).catch(() => undefined);
     for (const a of this.assemblers.values()) a.dropAll();
     this.queue.length = 0;
     this.setState(err === undefined ? 'closed' : 'failed', err?.message ?? null);
@@ -265,6 +267,7 @@ export class OpcuaSource implements FrameSource {
     const o = this.options;
     const folder = o.certificateFolder ?? join(tmpdir(), 'seqmon-opcua-pki');
     const certificateManager = new OPCUACertificateManager({ rootFolder: folder, automaticallyAcceptUnknownCertificate: o.acceptUnknownServerCertificate === true });
+    this.certificateManager = certificateManager;
     await certificateManager.initialize();
     const client = OPCUAClient.create({
       applicationName: 'seqmon',
@@ -335,7 +338,8 @@ export class OpcuaSource implements FrameSource {
   }
 
   private async teardown(): Promise<void> {
-    const client = this.client, session = this.session, subscription = this.subscription;
+    const client = this.client, session = this.session, subscription = this.subscription, pki = this.certificateManager;
+    this.certificateManager = null;
     this.client = null;
     this.session = null;
     this.subscription = null;
@@ -345,6 +349,8 @@ export class OpcuaSource implements FrameSource {
     if (subscription !== null) await bounded(subscription.terminate());
     if (session !== null) await bounded(session.close());
     if (client !== null) await bounded(client.disconnect());
+    // The manager watches its folders; release it with the client it served.
+    if (pki !== null) await bounded(pki.dispose());
   }
 
   /** Periodic: watchdog on a silent subscription, and dropping groups that wait for values that stopped coming. */
