@@ -54,10 +54,11 @@ describe('CFG 1999 (IEEE C37.111-1999, CHECKS.md §8.2)', () => {
   });
 
   it('tolerates spaces around fields, LF-only line ends and a byte-order mark', () => {
-    const text = '\ufeff' + base().replace('6,VC,C,', '6, VC , C ,'.replace('6', '3')).split('\r\n').join('\n');
-    const c = parse(text);
-    expect(c.analog[2]!.id).toBe('VC');
-    expect(c.analog.length).toBe(6);
+    const spaced = base().replace('3,VC,C,AC-12,V,', ' 3 , VC , C ,AC-12, V ,');
+    expect(spaced).not.toBe(base());
+    const c = parse('\ufeff' + spaced.split('\r\n').join('\n'));
+    expect([c.analog[2]!.index, c.analog[2]!.id, c.analog[2]!.phase, c.analog[2]!.unit]).toEqual([3, 'VC', 'C', 'V']);
+    expect(c.stationName).toBe(FICTIONAL_STATION);
   });
 
   it('records no warnings for a well-formed file', () => {
