@@ -2,6 +2,7 @@
  * Things that are valid but worth a second look, reported by
  * `seqmon check-config` and logged at start-up. None of them stops seqmon.
  */
+import { DEFAULT_DETECTION } from '../core/detect/settings.js';
 import { isLoopback } from './load-config.js';
 import type { SeqmonConfig } from './types.js';
 
@@ -20,7 +21,8 @@ export function configWarnings(c: SeqmonConfig): string[] {
   if (c.store.kind === 'influx' && c.store.url !== null && c.store.url.startsWith('http:') && c.store.password !== null && !isLoopback(new URL(c.store.url).hostname)) {
     w.push('the InfluxDB password is sent without TLS to a non-loopback server; use https://');
   }
-  const defaultFault = c.feeders.list.filter((f) => f.detection.fault.enabled && f.detection.fault.pickupA === 2000).map((f) => f.id);
-  if (defaultFault.length > 0) w.push(`detection.fault.pickupA is the 2000 A placeholder for ${defaultFault.join(', ')}: set it from the feeder's protection study`);
+  const placeholder = DEFAULT_DETECTION.fault.pickupA;
+  const defaultFault = c.feeders.list.filter((f) => f.detection.fault.enabled && f.detection.fault.pickupA === placeholder).map((f) => f.id);
+  if (defaultFault.length > 0) w.push(`detection.fault.pickupA is the ${placeholder} A placeholder for ${defaultFault.join(', ')}: set it from the feeder's protection study`);
   return w;
 }
