@@ -19,7 +19,7 @@ export interface TestServerOptions {
   port: number;
   pkiDir: string;
   nodes: readonly string[];
-  /** Only SignAndEncrypt/Basic256Sha256 with user name and password when set; otherwise None/anonymous. */
+  /** When set: only Sign or SignAndEncrypt with Basic256Sha256 or Aes256_Sha256_RsaPss, user name and password; otherwise None/anonymous. */
   secure?: { username: string; password: string };
 }
 
@@ -38,8 +38,8 @@ export async function startOpcuaTestServer(o: TestServerOptions): Promise<TestSe
     hostname: '127.0.0.1',
     alternateHostname: ['127.0.0.1'],
     serverCertificateManager: certificateManager,
-    securityPolicies: o.secure === undefined ? [SecurityPolicy.None] : [SecurityPolicy.Basic256Sha256],
-    securityModes: o.secure === undefined ? [MessageSecurityMode.None] : [MessageSecurityMode.SignAndEncrypt],
+    securityPolicies: o.secure === undefined ? [SecurityPolicy.None] : [SecurityPolicy.Basic256Sha256, SecurityPolicy.Aes256_Sha256_RsaPss],
+    securityModes: o.secure === undefined ? [MessageSecurityMode.None] : [MessageSecurityMode.SignAndEncrypt, MessageSecurityMode.Sign],
     allowAnonymous: o.secure === undefined,
     userManager: {
       isValidUser: (username: string, password: string) => o.secure !== undefined && username === o.secure.username && password === o.secure.password,

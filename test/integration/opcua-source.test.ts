@@ -257,6 +257,27 @@ describe('OpcuaSource security (SignAndEncrypt, Basic256Sha256, user name and pa
     await src.close();
   });
 
+  it('reads over Sign with Aes256_Sha256_RsaPss', async () => {
+    const sink = new CollectingSink();
+    const src = new OpcuaSource(
+      options(server.endpointUrl, {
+        securityMode: 'Sign',
+        securityPolicy: 'Aes256_Sha256_RsaPss',
+        user: { username: 'operator', password: 'fictional-pass' },
+        certificateFolder: join(root, `client-sec-${port}`),
+        acceptUnknownServerCertificate: true,
+      }),
+    );
+    td.add(() => src.destroy());
+    await src.start(sink);
+    await waitFor(() => src.status().state === 'connected', 20_000);
+    await sleep(200);
+    const t0 = Date.now() + 1_000;
+    writeF1(server, t0, 0);
+    await waitFor(() => sink.frames.some((f) => f.feeder === 'F1' && (f.payload as { ts: number }).ts === t0), 5_000);
+    await src.close();
+  });
+
   it('does not connect with a wrong password and reports why', async () => {
     const src = new OpcuaSource(
       options(server.endpointUrl, {
