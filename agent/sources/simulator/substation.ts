@@ -99,8 +99,9 @@ export const WRENMOOR_FEEDERS: readonly SimFeeder[] = Object.freeze([
     laterals: [
       { name: 'Marsh lane A', phase: 'a', peakKw: 1250, shape: 'rural', fuse: null },
       { name: 'Fen road B', phase: 'b', peakKw: 1150, shape: 'rural', fuse: null },
-      // A tree contact on the tap makes a phase-c-to-ground fault that the fuse clears, leaving the tap open.
-      { name: 'Heron Bluff tap C', phase: 'c', peakKw: 1350, shape: 'rural', fuse: { blowsAtHour: 13 + 40 / 60, replacedAtHour: 16 + 10 / 60, faultA: 1100, faultMs: 50 } },
+      // A tree contact on the tap makes a phase-c-to-ground fault that the fuse clears in 6 cycles, leaving the tap open
+      // (100 ms, so one 10/s phasor frame always falls inside it).
+      { name: 'Heron Bluff tap C', phase: 'c', peakKw: 1350, shape: 'rural', fuse: { blowsAtHour: 13 + 40 / 60, replacedAtHour: 16 + 10 / 60, faultA: 1100, faultMs: 100 } },
     ],
     faults: null,
     harmonics: [],
