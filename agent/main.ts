@@ -28,7 +28,6 @@ import { assertBindAllowed, buildServer } from './server/build-server.js';
 import type { FeederInfo } from './server/deps.js';
 import { MqttSource } from './sources/mqtt/mqtt-source.js';
 import { SYSTEM_SCHEDULER } from './sources/mqtt/system-scheduler.js';
-import { OpcuaSource } from './sources/opcua/opcua-source.js';
 import type { OpcuaFeeder } from './sources/opcua/options.js';
 import type { SimulatorPublisher } from './sources/simulator/index.js';
 import { startSimulatorPublisher, SubstationSimulator } from './sources/simulator/index.js';
@@ -154,6 +153,8 @@ export class SeqmonService {
     }
     if (config.opcua.enabled && config.opcua.endpointUrl !== null) {
       const o = config.opcua;
+      // Loaded only when configured: node-opcua is large and keeps timers of its own.
+      const { OpcuaSource } = await import('./sources/opcua/opcua-source.js');
       this.sources.push(
         new OpcuaSource({
           endpointUrl: o.endpointUrl!,
