@@ -120,7 +120,7 @@ function buildConfig(raw: Raw, file: string | null, lineOf: LineOf, env: Env, cw
   if (schema.renamed.length > 0) {
     throw new AgentError(
       'CFG_RENAMED_KEY',
-      `${where}: ${schema.renamed.map((p) => `${p.path}${p.line === null ? '' : ` (line ${p.line})`} was renamed: use ${p.expected.replace(/ \(.*$/, '').replace(/^the key /, '')}`).join('; ')}`,
+      `${where}: ${schema.renamed.map(({ problem: p, renamedTo }) => `${p.path}${p.line === null ? '' : ` (line ${p.line})`} was renamed: use ${renamedTo}`).join('; ')}`,
       { details: { file, problems: schema.problems } },
     );
   }

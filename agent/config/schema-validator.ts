@@ -17,8 +17,8 @@ const EXPECTED_KEYWORD = 'x-expected';
 
 export interface SchemaCheck {
   readonly problems: ConfigProblem[];
-  /** Problems caused by renamed keys (also present in `problems`). */
-  readonly renamed: ConfigProblem[];
+  /** Renamed keys found (their problems are also in `problems`). */
+  readonly renamed: { readonly problem: ConfigProblem; readonly renamedTo: string }[];
 }
 
 let compiled: ValidateFunction | null = null;
@@ -47,7 +47,7 @@ export function checkAgainstSchema(raw: Record<string, unknown>, lineOf: (path: 
   if (validate(raw)) return { problems: [], renamed: [] };
   const errors = (validate.errors ?? []).filter(keep);
   const problems: ConfigProblem[] = [];
-  const renamed: ConfigProblem[] = [];
+  const renamed: { problem: ConfigProblem; renamedTo: string }[] = [];
   const seen = new Set<string>();
   for (const e of errors) {
     const p = explain(e, errors, lineOf);
@@ -55,7 +55,7 @@ export function checkAgainstSchema(raw: Record<string, unknown>, lineOf: (path: 
     if (seen.has(key)) continue;
     seen.add(key);
     problems.push(p);
-    if (e.keyword === RENAMED_KEYWORD) renamed.push(p);
+    if (e.keyword === RENAMED_KEYWORD) renamed.push({ problem: p, renamedTo: String((e.params as { renamedTo: unknown }).renamedTo) });
   }
   return { problems, renamed };
 }
