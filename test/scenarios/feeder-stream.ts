@@ -48,6 +48,15 @@ export class FeederStream {
     this.collect();
   }
 
+  /** One samples frame (instantaneous values, `rate` samples per second, first sample at `ts`). */
+  samplesFrame(ts: number, rate: number, v: [number[], number[], number[]], i: [number[], number[], number[]] | null): void {
+    const payload: Record<string, unknown> = { ts, rate, v: { a: v[0], b: v[1], c: v[2] } };
+    if (i !== null) payload.i = { a: i[0], b: i[1], c: i[2] };
+    this.pipeline.ingest({ feeder: FEEDER, kind: 'samples', payload, origin: 'scenario' }, this.out);
+    expect(this.out.rejections).toEqual([]);
+    this.collect();
+  }
+
   /** Frames every `stepMs` for from ≤ t < to; returns the first time not sent. */
   run(from: number, to: number, stepMs: number, fn: FrameFn): number {
     let t = from;
