@@ -1,4 +1,6 @@
+import { Writable } from 'node:stream';
 import type { FastifyInstance } from 'fastify';
+import { pino } from 'pino';
 import { afterEach, describe, expect, it } from 'vitest';
 import { isAgentError } from '../../../agent/core/errors.js';
 import { assertBindAllowed, buildServer } from '../../../agent/server/build-server.js';
@@ -58,6 +60,27 @@ describe('access token', () => {
     const res = await app.inject({ method: 'GET', url: `/api/nowhere?token=${TOKEN}`, headers: { authorization: `Bearer ${TOKEN}` } });
     expect(res.statusCode).toBe(404);
     expect(res.body).not.toContain(TOKEN);
+  });
+});
+
+describe('logging', () => {
+  it('never writes the token to the log, even at debug level and for failed requests', async () => {
+    const lines: string[] = [];
+    const sink = new Writable({
+      write(chunk, _enc, done) {
+        lines.push(String(chunk));
+        done();
+      },
+    });
+    const logger = pino({ level: 'debug' }, sink);
+    app = await buildServer({ ...makeDeps({ now: NOW, security: { token: TOKEN } }), logger });
+    await app.inject({ method: 'GET', url: `/api/feeders?token=${TOKEN}` });
+    await app.inject({ method: 'GET', url: '/api/feeders', headers: { authorization: `Bearer ${TOKEN}` } });
+    await app.inject({ method: 'GET', url: `/api/feeders/NOPE/trend?token=${TOKEN}` });
+    await app.inject({ method: 'GET', url: '/api/feeders?token=wrong-guess' });
+    expect(lines.length).toBeGreaterThan(0);
+    expect(lines.join('')).not.toContain(TOKEN);
+    expect(lines.join('')).toContain('token=[redacted]');
   });
 });
 
