@@ -125,21 +125,28 @@ function quantityAt(row: ArrayLike<unknown>, at: number): QuantityResult {
   };
 }
 
+function voltageAt(row: ArrayLike<unknown>, at: number): VoltageResult {
+  const ll = at + QUANTITY_COLUMNS.length;
+  const ab = num(row, ll);
+  const bc = num(row, ll + 1);
+  const ca = num(row, ll + 2);
+  // Built in one literal (no spread of quantityAt) so every result has the same hidden class: reads of long ranges stay fast.
+  return {
+    zero: phasorAt(row, at),
+    pos: phasorAt(row, at + 2),
+    neg: phasorAt(row, at + 4),
+    u2: num(row, at + 6),
+    u0: num(row, at + 7),
+    rms: tripleAt(row, at + 8),
+    thd: tripleAt(row, at + 11),
+    rmsLL: ab === null || bc === null || ca === null ? null : { ab, bc, ca },
+    lvur: num(row, ll + 3),
+    pvur: num(row, ll + 4),
+  };
+}
+
 /** Rebuilds a SequenceResult from a row in SEQUENCE_COLUMNS order starting at `o`, with every field present. */
 export function rowToSequence(feeder: string, window: AggregateWindow, ts: number, row: ArrayLike<unknown>, o = 0): SequenceResult {
-  let v: VoltageResult | null = null;
-  if (flag(row, o + HAS_V)) {
-    const at = o + V0 + QUANTITY_COLUMNS.length;
-    const ab = num(row, at);
-    const bc = num(row, at + 1);
-    const ca = num(row, at + 2);
-    v = {
-      ...quantityAt(row, o + V0),
-      rmsLL: ab === null || bc === null || ca === null ? null : { ab, bc, ca },
-      lvur: num(row, at + 3),
-      pvur: num(row, at + 4),
-    };
-  }
   return {
     ts,
     feeder,
@@ -147,7 +154,7 @@ export function rowToSequence(feeder: string, window: AggregateWindow, ts: numbe
     durationMs: num(row, o) ?? 0,
     freq: num(row, o + 1),
     flagged: flag(row, o + FLAGGED),
-    v,
+    v: flag(row, o + HAS_V) ? voltageAt(row, o + V0) : null,
     i: flag(row, o + HAS_I) ? quantityAt(row, o + I0) : null,
     count: num(row, o + COUNT) ?? 0,
   };

@@ -120,6 +120,12 @@ function groupByTarget(points: readonly SpooledPoint[]): Map<string, string[]> {
   return groups;
 }
 
+function spoolEntries(groups: Map<string, string[]>): SpooledPoint[] {
+  const out: SpooledPoint[] = [];
+  for (const [target, lines] of groups) for (const line of lines) out.push({ target, line });
+  return out;
+}
+
 function columnIndex(s: QuerySeries, name: string): number {
   return s.columns.indexOf(name);
 }
@@ -140,7 +146,9 @@ export class InfluxStore implements TrendStore {
 
   private state: Lifecycle = 'open';
   private schemaReady = false;
-  private pending: SpooledPoint[] = [];
+  /** Lines waiting for the next flush, per retention policy, in write order. */
+  private pending = new Map<string, string[]>();
+  private pendingCount = 0;
   private waiters: Waiter[] = [];
   private flushTimer: TimerHandle | null = null;
   private flushChain: Promise<void> = Promise.resolve();
@@ -221,12 +229,19 @@ export class InfluxStore implements TrendStore {
 
   // ---------- write path ----------
 
-  private enqueue(points: SpooledPoint[]): Promise<void> {
-    if (points.length === 0) return Promise.resolve();
+  private linesFor(target: string): string[] {
+    let lines = this.pending.get(target);
+    if (lines === undefined) this.pending.set(target, (lines = []));
+    return lines;
+  }
+
+  /** Waits for the flush that takes the `added` lines just put into `pending`. */
+  private enqueued(added: number): Promise<void> {
+    if (added === 0) return Promise.resolve();
+    this.pendingCount += added;
     return new Promise<void>((resolve, reject) => {
-      for (const p of points) this.pending.push(p);
       this.waiters.push({ resolve, reject });
-      if (this.pending.length >= this.batchSize) this.requestFlush();
+      if (this.pendingCount >= this.batchSize) this.requestFlush();
       else if (this.flushTimer === null) this.flushTimer = this.scheduler.setTimeout(() => this.requestFlush(), this.flushIntervalMs);
     });
   }
@@ -241,13 +256,14 @@ export class InfluxStore implements TrendStore {
   }
 
   private async flushOnce(): Promise<void> {
-    if (this.pending.length === 0) return;
-    const points = this.pending;
+    if (this.pendingCount === 0) return;
+    const groups = this.pending;
     const waiters = this.waiters;
-    this.pending = [];
+    this.pending = new Map();
+    this.pendingCount = 0;
     this.waiters = [];
     try {
-      await this.deliver(points);
+      await this.deliver(groups);
       for (const w of waiters) w.resolve();
     } catch (e) {
       const err = isAgentError(e) ? e : new AgentError('STORE_WRITE_FAILED', `writing to InfluxDB failed: ${String(e)}`, { cause: e });
@@ -255,18 +271,17 @@ export class InfluxStore implements TrendStore {
     }
   }
 
-  /** Puts points into InfluxDB or the spool; throws only when neither took them. */
-  private async deliver(points: SpooledPoint[]): Promise<void> {
+  /** Puts lines into InfluxDB or the spool; throws only when neither took them. */
+  private async deliver(groups: Map<string, string[]>): Promise<void> {
     if (this.spool.size > 0 || this.draining) {
-      this.toSpool(points);
+      this.toSpool(spoolEntries(groups));
       return;
     }
-    const groups = groupByTarget(points);
     try {
       await this.ensureSchema();
     } catch (e) {
       this.noteUnreachable(e instanceof Error ? e.message : String(e));
-      this.toSpool(points);
+      this.toSpool(spoolEntries(groups));
       return;
     }
     let refusal: string | null = null;
@@ -378,11 +393,14 @@ export class InfluxStore implements TrendStore {
     try {
       this.assertOpen('STORE_WRITE_FAILED');
       checkResults(results);
-      const points = new Array<SpooledPoint>(results.length);
-      for (let k = 0; k < results.length; k++) {
-        points[k] = { target: RETENTION_POLICY[results[k].window as AggregateWindow], line: sequenceLine(results[k]) };
+      let target = '';
+      let lines: string[] = [];
+      for (const r of results) {
+        const rp = RETENTION_POLICY[r.window as AggregateWindow];
+        if (rp !== target) lines = this.linesFor((target = rp));
+        lines.push(sequenceLine(r));
       }
-      return this.enqueue(points);
+      return this.enqueued(results.length);
     } catch (e) {
       return Promise.reject(e);
     }
@@ -392,7 +410,8 @@ export class InfluxStore implements TrendStore {
     try {
       this.assertOpen('STORE_WRITE_FAILED');
       checkAlarm(transition);
-      return this.enqueue([{ target: RETENTION_POLICY.records, line: alarmLine(transition) }]);
+      this.linesFor(RETENTION_POLICY.records).push(alarmLine(transition));
+      return this.enqueued(1);
     } catch (e) {
       return Promise.reject(e);
     }
@@ -402,7 +421,8 @@ export class InfluxStore implements TrendStore {
     try {
       this.assertOpen('STORE_WRITE_FAILED');
       checkEvent(event);
-      return this.enqueue([{ target: RETENTION_POLICY.records, line: eventLine(event) }]);
+      this.linesFor(RETENTION_POLICY.records).push(eventLine(event));
+      return this.enqueued(1);
     } catch (e) {
       return Promise.reject(e);
     }
@@ -586,7 +606,8 @@ export class InfluxStore implements TrendStore {
     const reason = new AgentError('STORE_WRITE_FAILED', 'the InfluxDB store was destroyed before these points were stored or queued', { cause: err });
     for (const w of this.waiters) w.reject(reason);
     this.waiters = [];
-    this.pending = [];
+    this.pending = new Map();
+    this.pendingCount = 0;
     this.spool.close();
   }
 }
