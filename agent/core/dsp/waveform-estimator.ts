@@ -5,10 +5,15 @@
  *    frequency (§4.4), windows contiguous and non-overlapping;
  *  - the frequency is tracked window by window (frequency-tracker.ts) until
  *    the window holds exactly N cycles;
- *  - the window is resampled (six-point Lagrange) to RESAMPLED_POINTS points,
- *    so the fundamental falls exactly on bin N and harmonic h on bin h·N of
- *    one FFT: fundamental phasors free of leakage (§5.7.2, unbalance from the
- *    fundamental symmetrical components) and harmonic magnitudes for THD;
+ *  - the window is resampled (six-point Lagrange) to M = N·POINTS_PER_CYCLE
+ *    points, so the fundamental falls exactly on DFT bin N and harmonic h on
+ *    bin h·N: fundamental phasors free of leakage (§5.7.2, unbalance from the
+ *    fundamental symmetrical components) and harmonic magnitudes for THD.
+ *    Only the bins h·N are needed, and for those the M-point DFT equals the
+ *    POINTS_PER_CYCLE-point DFT of the N cycles summed point by point
+ *    ("folded"): X_M[h·N] = Σ_p (Σ_c x[c·P + p])·e^{-j2πhp/P}, because
+ *    e^{-j2πh·c} = 1. So one small power-of-two FFT per pair of channels
+ *    replaces an M-point one, with identical values;
  *  - true RMS from the raw samples over the window (§5.2);
  *  - Urms(1/2) per voltage channel, one cycle refreshed every half cycle
  *    (§5.4.1), for the dip, swell and interruption flags (§5.4, §4.7). The
@@ -64,8 +69,12 @@ export interface WaveformEstimatorOptions {
   nominalVoltageLN: number | null;
 }
 
-/** Points per resampled window: power of two, with harmonic 40 at 60 Hz (bin 480) below Nyquist (bin 512). */
-export const RESAMPLED_POINTS = 1024;
+/**
+ * Resampled points per cycle: a power of two (the FFT size after folding),
+ * with the 40th harmonic below its Nyquist limit (64), and no coarser than
+ * common recorder rates (128 samples per cycle is 7680 S/s at 60 Hz).
+ */
+export const POINTS_PER_CYCLE = 128;
 /** Highest harmonic in THD (IEC 61000-4-7 groups up to the 40th; IEC 61000-4-30 §5.9 uses 2..40 at least). */
 export const MAX_HARMONIC = 40;
 /**
@@ -96,9 +105,11 @@ export class WaveformEstimator {
   private readonly minHz: number;
   private readonly maxHz: number;
   private readonly events: VoltageEventDetector | null;
-  private readonly fft = new Fft(RESAMPLED_POINTS);
+  private readonly fft = new Fft(POINTS_PER_CYCLE);
+  /** Resampled points per window, N·POINTS_PER_CYCLE. */
+  private readonly points: number;
   private readonly refiner: HalfWindowRefiner;
-  private readonly resampler = new LagrangeResampler(RESAMPLED_POINTS);
+  private readonly resampler: LagrangeResampler;
   private readonly resampled: Float64Array[] = [];
   private readonly out: BasicWindow;
   private readonly vPh = new Float64Array(6);
@@ -142,8 +153,10 @@ export class WaveformEstimator {
     this.maxHz = opts.nominalHz * (1 + TRACKING_RANGE);
     this.freq = opts.nominalHz;
     this.events = opts.nominalVoltageLN !== null && opts.nominalVoltageLN > 0 ? new VoltageEventDetector(opts.nominalVoltageLN) : null;
-    this.refiner = new HalfWindowRefiner(RESAMPLED_POINTS, this.cycles);
-    for (let c = 0; c < 6; c++) this.resampled.push(new Float64Array(RESAMPLED_POINTS));
+    this.points = this.cycles * POINTS_PER_CYCLE;
+    this.resampler = new LagrangeResampler(this.points);
+    this.refiner = new HalfWindowRefiner(this.points, this.cycles);
+    for (let c = 0; c < 6; c++) this.resampled.push(new Float64Array(this.points));
     this.out = {
       ts: 0, durationMs: 0, freq: 0, v: null, i: null, vRms: null, iRms: null, vThd: null, iThd: null,
       flagged: false, gap: false, dip: false, swell: false, interruption: false,
@@ -239,7 +252,7 @@ export class WaveformEstimator {
   }
 
   private nextWindow(emit: (w: BasicWindow) => void): boolean {
-    const rate = this.rate, N = this.cycles, M = RESAMPLED_POINTS;
+    const rate = this.rate, N = this.cycles, M = this.points;
     let f = this.freq;
     let acquired = false;
     if (!this.locked) {
@@ -344,7 +357,7 @@ export class WaveformEstimator {
   /** Resamples channels set..set+2 onto the span of N cycles at f; returns the updated done-mask. */
   private resampleSet(set: number, f: number, done: number): number {
     const span = (this.cycles * this.rate) / f;
-    if (done === 0) this.resampler.plan(this.start, span / RESAMPLED_POINTS, RESAMPLED_POINTS);
+    if (done === 0) this.resampler.plan(this.start, span / this.points, this.points);
     for (let c = set; c < set + 3; c++) this.resampler.apply(this.buffers[c]!, this.resampled[c]!);
     return done | (7 << set);
   }
@@ -363,15 +376,16 @@ export class WaveformEstimator {
   }
 
   /**
-   * Fundamental phasors and THD from one FFT per pair of channels: two real
-   * signals x, y packed as z = x + j·y give X[k] = (Z[k] + Z*[M-k])/2 and
-   * Y[k] = (Z[k] - Z*[M-k])/(2j) (Oppenheim & Schafer, Discrete-Time Signal
-   * Processing, DFT of two real sequences).
+   * Fundamental phasors and THD from one folded POINTS_PER_CYCLE-point FFT
+   * per pair of channels: two real signals x, y packed as z = x + j·y give
+   * X[k] = (Z[k] + Z*[P-k])/2 and Y[k] = (Z[k] - Z*[P-k])/(2j) (Oppenheim &
+   * Schafer, Discrete-Time Signal Processing, DFT of two real sequences; from
+   * memory). Bin h of the folded FFT is bin h·N of the whole window.
    */
   private spectrum(f: number): void {
-    const M = RESAMPLED_POINTS, N = this.cycles;
+    const P = POINTS_PER_CYCLE, N = this.cycles;
     // Harmonics must lie below the raw Nyquist frequency, or they are interpolation images.
-    const hMax = Math.min(MAX_HARMONIC, Math.ceil(this.rate / (2 * f)) - 1);
+    const hMax = Math.min(MAX_HARMONIC, P / 2 - 1, Math.ceil(this.rate / (2 * f)) - 1);
     const zin = this.fft.input, z = this.fft.output;
     const fund = this.fundamental, hsq = this.harmonicSq;
     // Channel pairs: (0,1), (2,3), (4,5); absent channels are zero-filled.
@@ -380,16 +394,22 @@ export class WaveformEstimator {
       const px = this.present(cx), py = this.present(cy);
       if (!px && !py) continue;
       const x = this.resampled[cx]!, y = this.resampled[cy]!;
-      for (let k = 0; k < M; k++) {
-        zin[2 * k] = px ? x[k]! : 0;
-        zin[2 * k + 1] = py ? y[k]! : 0;
+      // Fold the N cycles onto one (see the module comment).
+      for (let k = 0; k < P; k++) {
+        let sx = 0, sy = 0;
+        for (let c = 0, j = k; c < N; c++, j += P) {
+          sx += x[j]!;
+          sy += y[j]!;
+        }
+        zin[2 * k] = px ? sx : 0;
+        zin[2 * k + 1] = py ? sy : 0;
       }
       this.fft.forward();
       hsq[cx] = 0;
       hsq[cy] = 0;
       for (let h = 1; h <= hMax; h++) {
-        const k = h * N, mk = M - k;
-        const zr = z[2 * k]!, zi = z[2 * k + 1]!, wr = z[2 * mk]!, wi = z[2 * mk + 1]!;
+        const mh = P - h;
+        const zr = z[2 * h]!, zi = z[2 * h + 1]!, wr = z[2 * mh]!, wi = z[2 * mh + 1]!;
         const xr = 0.5 * (zr + wr), xi = 0.5 * (zi - wi);
         const yr = 0.5 * (zi + wi), yi = -0.5 * (zr - wr);
         if (h === 1) {
@@ -403,6 +423,7 @@ export class WaveformEstimator {
         }
       }
     }
+    const M = this.points;
     // A cosine of peak A gives X[N] = A·M/2; the RMS phasor is X[N]·√2/M.
     const scale = Math.SQRT2 / M;
     for (let c = 0; c < 3; c++) {
