@@ -139,6 +139,8 @@ export class SeqmonService {
         tls: m.tls,
         protocolVersion: m.protocolVersion,
         qos: m.qos,
+        clean: m.cleanSession,
+        connectTimeoutMs: m.connectTimeoutMs,
         keepaliveS: m.keepaliveSec,
         reconnect: m.reconnect,
         maxPayloadBytes: m.maxPayloadBytes,
@@ -148,7 +150,7 @@ export class SeqmonService {
       this.sources.push(source);
       if (m.publishResults) {
         const loan = source.lendClient();
-        this.publisher = new MqttPublisher({ outPrefix: m.outputPrefix, client: loan.client, releaseClient: loan.release, logger: childLogger(logger, 'mqtt-out') });
+        this.publisher = new MqttPublisher({ outPrefix: m.outputPrefix, resultQos: m.qos, client: loan.client, releaseClient: loan.release, logger: childLogger(logger, 'mqtt-out') });
       }
     }
     if (config.opcua.enabled && config.opcua.endpointUrl !== null) {

@@ -46,12 +46,19 @@ export function quantityFromPhasors(abc: Float64Array, s: SequenceScratch, thd: 
 /** Voltage part from line-to-neutral phasors: adds L-L magnitudes and the NEMA/IEEE rates. */
 export function voltageFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): VoltageResult {
   const q = quantityFromPhasors(abc, s, thd);
-  const ab = Math.hypot(abc[0]! - abc[2]!, abc[1]! - abc[3]!);
-  const bc = Math.hypot(abc[2]! - abc[4]!, abc[3]! - abc[5]!);
-  const ca = Math.hypot(abc[4]! - abc[0]!, abc[5]! - abc[1]!);
+  const ab = Math.sqrt((abc[0]! - abc[2]!) ** 2 + (abc[1]! - abc[3]!) ** 2);
+  const bc = Math.sqrt((abc[2]! - abc[4]!) ** 2 + (abc[3]! - abc[5]!) ** 2);
+  const ca = Math.sqrt((abc[4]! - abc[0]!) ** 2 + (abc[5]! - abc[1]!) ** 2);
   const rms = q.rms!;
+  // An explicit literal (not a spread of q): one stable object shape, created once per frame.
   return {
-    ...q,
+    zero: q.zero,
+    pos: q.pos,
+    neg: q.neg,
+    u2: q.u2,
+    u0: q.u0,
+    rms,
+    thd: q.thd,
     rmsLL: { ab, bc, ca },
     lvur: finiteOrNull(nemaLvurPercent(ab, bc, ca)),
     pvur: finiteOrNull(ieeePvurPercent(rms.a, rms.b, rms.c)),
