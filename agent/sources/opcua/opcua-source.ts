@@ -106,6 +106,8 @@ export class OpcuaSource implements FrameSource {
   private started = false;
   private stopped = false;
   private loop: Promise<void> | null = null;
+  /** Certificate set-up of the current attempt (writes files); close() lets it finish so nothing is written after close returns. */
+  private preparing: Promise<void> | null = null;
   private client: OPCUAClient | null = null;
   private certificateManager: OPCUACertificateManager | null = null;
   private session: ClientSession | null = null;
@@ -174,6 +176,7 @@ export class OpcuaSource implements FrameSource {
     this.broken?.('closing');
     this.wake?.();
     await this.loop;
+    if (this.preparing !== null) await Promise.race([this.preparing.catch(() => undefined), new Promise((r) => setTimeout(r, 10_000))]);
     await this.teardown();
     for (const a of this.assemblers.values()) a.dropAll();
     // Flush what the pipeline has not taken yet: nothing already assembled is lost on a graceful close.
@@ -268,7 +271,6 @@ export class OpcuaSource implements FrameSource {
     const folder = o.certificateFolder ?? join(tmpdir(), 'seqmon-opcua-pki');
     const certificateManager = new OPCUACertificateManager({ rootFolder: folder, automaticallyAcceptUnknownCertificate: o.acceptUnknownServerCertificate === true });
     this.certificateManager = certificateManager;
-    await certificateManager.initialize();
     const client = OPCUAClient.create({
       applicationName: 'seqmon',
       securityMode: MessageSecurityMode[o.securityMode],
@@ -288,6 +290,14 @@ export class OpcuaSource implements FrameSource {
         this.setState('connected');
       }
     });
+    // Create this client's certificate (first use, about 2 s) before connecting, as a step close() can wait for;
+    // connect() itself may keep retrying an unreachable server until disconnect().
+    this.preparing = (async () => {
+      await certificateManager.initialize();
+      await client.createDefaultCertificate();
+    })();
+    await this.preparing;
+    if (this.stopped) return;
     await client.connect(o.endpointUrl);
     if (this.stopped) return;
     if (o.user !== undefined && o.securityMode === 'None') {
