@@ -305,14 +305,22 @@ export class InfluxStore implements TrendStore {
     }
     if (left.length > 0) this.toSpool(left);
     if (refusal !== null) {
-      throw new AgentError('STORE_WRITE_FAILED', `${refusal}; the other points of the batch were stored`, { details: { database: this.ep.database } });
+      throw new AgentError('STORE_WRITE_FAILED', `${refusal}; the batch's other points were stored or queued`, { details: { database: this.ep.database } });
+    }
+  }
+
+  private warn(err: AgentError): void {
+    try {
+      this.onWarning(err);
+    } catch {
+      // a failing listener must not turn a queued batch into a failed one
     }
   }
 
   private toSpool(points: SpooledPoint[]): void {
     const { dropped } = this.spool.append(points);
     if (dropped > 0) {
-      this.onWarning(
+      this.warn(
         new AgentError(
           'STORE_QUEUE_FULL',
           `store-and-forward spool full (${this.spool.capacity} points): dropped the ${dropped} oldest queued points; raise spoolCapacity or restore InfluxDB`,
@@ -340,6 +348,8 @@ export class InfluxStore implements TrendStore {
     this.draining = true;
     this.drainDone = this.drain(Number.POSITIVE_INFINITY).finally(() => {
       this.draining = false;
+      // A flush may have appended after the drain's last look at the spool (it saw `draining` and left it to us).
+      if (this.spool.size > 0 && this.retryTimer === null && this.state === 'open') this.kickDrain();
     });
   }
 
@@ -358,7 +368,7 @@ export class InfluxStore implements TrendStore {
           }
           if (out.kind === 'refused') {
             this.refused += lines.length;
-            this.onWarning(new AgentError('STORE_WRITE_FAILED', `${out.reason}; discarded ${lines.length} queued points that InfluxDB will never accept`));
+            this.warn(new AgentError('STORE_WRITE_FAILED', `${out.reason}; discarded ${lines.length} queued points that InfluxDB will never accept`));
           } else {
             this.expired += out.expired;
           }
