@@ -43,6 +43,18 @@ async function serve(feederCount, trendFeeder) {
   return { app, base: `http://127.0.0.1:${app.server.address().port}`, now, firstId: feeders[0].id };
 }
 
+/** Best-of-N ms for the API request alone (server query + serialization + transfer), to tell server time from browser time. */
+async function timeFetch(url) {
+  let best = Infinity;
+  for (let r = 0; r < REPEATS; r++) {
+    const t0 = performance.now();
+    const res = await fetch(url);
+    await res.arrayBuffer();
+    best = Math.min(best, performance.now() - t0);
+  }
+  return best;
+}
+
 /** Best-of-N ms from navigation start until `selector` matches. */
 async function timeToRender(context, url, selector) {
   let best = Infinity;
@@ -75,6 +87,8 @@ export async function run() {
     const weekUrl = `${many.base}/#/feeder/${id}?from=${many.now - 7 * DAY}&to=${many.now}&window=3s`;
     const hourMs = await timeToRender(context, hourUrl, '[data-chart="i1"][data-window="3s"]');
     const weekMs = await timeToRender(context, weekUrl, '[data-chart="i1"][data-points]:not([data-points="0"])[data-window="3s"]');
+    const overviewApiMs = await timeFetch(`${many.base}/api/overview`);
+    const weekApiMs = await timeFetch(`${many.base}/api/feeders/${id}/trend?from=${many.now - 7 * DAY}&to=${many.now}&window=3s&fields=vU2,vU0,iU2,i1`);
     const page = await context.newPage();
     await page.goto(weekUrl);
     await page.waitForSelector('[data-chart="i1"][data-window="3s"]:not([data-points="0"])', { timeout: 120_000 });
@@ -86,9 +100,11 @@ export async function run() {
         'overview 1 feeder ms (baseline)': Math.round(oneMs),
         'overview 200 feeders ms': Math.round(manyMs),
         'overview 200 / 1 ratio': Number((manyMs / oneMs).toFixed(2)),
+        'of which GET /api/overview (200 feeders) ms': Math.round(overviewApiMs),
         'trend 1 h of 3-s values ms (baseline, 4 charts)': Math.round(hourMs),
         'trend 7 days of 3-s values ms (4 charts)': Math.round(weekMs),
         'trend 7 d / 1 h ratio': Number((weekMs / hourMs).toFixed(2)),
+        'of which GET trend (7 d, 3 s, 4 columns, memory store) ms': Math.round(weekApiMs),
         'points per chart, 7 days': weekPoints,
       },
     };
