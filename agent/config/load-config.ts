@@ -233,6 +233,7 @@ function resolve(raw: Raw, file: string | null, env: Env, cwd: string, problems:
       nominalHz: (entry.nominalHz as 50 | 60 | undefined) ?? (d.nominalHz as 50 | 60),
       nominalVoltageLN: own,
       detection,
+      currentsSumToZero: (entry.currentsSumToZero as boolean | undefined) ?? (d.currentsSumToZero as boolean),
     };
   });
   duplicates(list.map((x) => x.id), (k, id) => problem(['feeders', 'list', k, 'id'], 'a feeder id not used before in feeders.list', `${JSON.stringify(id)} again`));
@@ -309,7 +310,7 @@ function resolve(raw: Raw, file: string | null, env: Env, cwd: string, problems:
     feeders: {
       discover: f.discover as boolean,
       max: f.max as number,
-      defaults: { nominalHz: d.nominalHz as 50 | 60, nominalVoltageLN: defaultsLN, detection: defaultsDetection },
+      defaults: { nominalHz: d.nominalHz as 50 | 60, nominalVoltageLN: defaultsLN, detection: defaultsDetection, currentsSumToZero: d.currentsSumToZero as boolean },
       list,
     },
     simulator: {
@@ -397,7 +398,7 @@ function deepFreeze<T>(o: T): T {
 
 /** The settings the core pipeline is built from. */
 export function toPipelineSettings(config: SeqmonConfig): PipelineSettings {
-  const feeder = (x: FeederConfig): FeederSettings => ({ id: x.id, nominalHz: x.nominalHz, nominalVoltageLN: x.nominalVoltageLN, detection: x.detection });
+  const feeder = (x: FeederConfig): FeederSettings => ({ id: x.id, nominalHz: x.nominalHz, nominalVoltageLN: x.nominalVoltageLN, detection: x.detection, currentsSumToZero: x.currentsSumToZero });
   return Object.freeze({
     discoverFeeders: config.feeders.discover,
     defaults: Object.freeze({ ...config.feeders.defaults }),

@@ -131,6 +131,8 @@ export interface FeederConfig {
   readonly nominalVoltageLN: number | null;
   /** Fully merged: DEFAULT_DETECTION, then feeders.defaults.detection, then the feeder's own detection. */
   readonly detection: DetectionSettings;
+  /** Three-wire feeder: phase currents sum to zero, so I2/I1 follows from current magnitudes alone. */
+  readonly currentsSumToZero: boolean;
 }
 
 export interface FeedersConfig {

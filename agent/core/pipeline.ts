@@ -24,6 +24,13 @@ export interface FeederSettings {
   /** Nominal line-to-neutral RMS voltage, V; null when unknown (no dip/swell flags then). */
   readonly nominalVoltageLN: number | null;
   readonly detection: DetectionSettings;
+  /**
+   * Three-wire feeder: the phase currents sum to zero, so I2/I1 follows
+   * exactly from current magnitudes alone (rms frames). Default false: on a
+   * four-wire feeder neutral current makes that estimate wrong, so it is not
+   * reported.
+   */
+  readonly currentsSumToZero?: boolean | undefined;
 }
 
 export interface PipelineSettings {
@@ -210,7 +217,7 @@ class FeederProcessor {
 
   private fromRms(f: RmsFrame): SequenceResult {
     const v = f.vll === null && f.vln === null ? null : voltageFromMagnitudes(f.vll, f.vln, this.scratch);
-    const i = f.i === null ? null : currentFromMagnitudes(f.i, this.scratch);
+    const i = f.i === null ? null : currentFromMagnitudes(f.i, this.scratch, this.settings.currentsSumToZero === true);
     return this.result(f.ts, 'frame', 0, f.freq, this.voltageFlag(v), v, i);
   }
 

@@ -27,9 +27,9 @@ export class FeederStream {
   readonly aggregates: PipelineOutput['aggregates'] = [];
   private readonly out = createOutput();
 
-  constructor(detection: DetectionSettings = DEFAULT_DETECTION, nominalVoltageLN: number | null = VLN) {
-    const feeder = { id: FEEDER, nominalHz: 60 as const, nominalVoltageLN, detection };
-    this.pipeline = new Pipeline({ discoverFeeders: false, defaults: { nominalHz: 60, nominalVoltageLN, detection }, feeders: [feeder] });
+  constructor(detection: DetectionSettings = DEFAULT_DETECTION, nominalVoltageLN: number | null = VLN, currentsSumToZero = false) {
+    const feeder = { id: FEEDER, nominalHz: 60 as const, nominalVoltageLN, detection, currentsSumToZero };
+    this.pipeline = new Pipeline({ discoverFeeders: false, defaults: { nominalHz: 60, nominalVoltageLN, detection, currentsSumToZero }, feeders: [feeder] });
   }
 
   /** One phasor frame at `ts`. */

@@ -14,8 +14,8 @@ const VLL = VLN * Math.sqrt(3);
 const BUS = { ab: VLL, bc: VLL, ca: VLL };
 
 describe('rms meter frames through the pipeline', () => {
-  it('raises open-phase b from current magnitudes 200 / 0 / 200 A (degenerate triangle: |I2|/|I1| = 1, CHECKS.md §1.9 β = 1/2)', () => {
-    const s = new FeederStream();
+  it('raises open-phase b from current magnitudes 200 / 0 / 200 A of a three-wire feeder (degenerate triangle: |I2|/|I1| = 1, CHECKS.md §1.9 β = 1/2)', () => {
+    const s = new FeederStream(DEFAULT_DETECTION, VLN, true);
     let t = T0;
     for (; t < T0 + 2000; t += 100) s.rmsFrame(t, BUS, { a: 200, b: 200, c: 200 });
     const open = t;

@@ -103,17 +103,18 @@ export function voltageFromMagnitudes(vll: Float64Array | null, vln: Float64Arra
 }
 
 /**
- * Current part from phase magnitudes only. Assumes the three currents sum to
- * zero (a three-wire feeder, or no neutral/ground current), under which the
- * same β formula gives I2/I1 exactly; with neutral current present the value
- * is an estimate. I0 is unobservable.
+ * Current part from phase magnitudes only. When the three currents sum to
+ * zero (a three-wire feeder: no neutral or ground current) the same β formula
+ * gives I2/I1 exactly, and the caller says so with `sumToZero`. Otherwise the
+ * sequence components are unobservable from magnitudes (neutral current can
+ * double the apparent I2/I1), and only the per-phase RMS is reported.
  */
-export function currentFromMagnitudes(mags: Float64Array, s: SequenceScratch): QuantityResult {
+export function currentFromMagnitudes(mags: Float64Array, s: SequenceScratch, sumToZero: boolean): QuantityResult {
   const a = mags[0]!, b = mags[1]!, c = mags[2]!;
-  const u = u2FromLineMagnitudesPercent(a, b, c);
   let pos: PhasorOut | null = null;
   let neg: PhasorOut | null = null;
   let u2: number | null = null;
+  const u = sumToZero ? u2FromLineMagnitudesPercent(a, b, c) : Number.NaN;
   if (Number.isFinite(u)) {
     sequenceMagnitudesFromZeroSumInto(a, b, c, s.pair);
     pos = [s.pair[0]!, null];

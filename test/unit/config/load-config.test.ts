@@ -245,8 +245,8 @@ describe('feeder settings', () => {
     const s = toPipelineSettings(c);
     expect(s.discoverFeeders).toBe(false);
     expect(s.maxFeeders).toBe(10);
-    expect(s.defaults).toEqual({ nominalHz: 50, nominalVoltageLN: null, detection: DEFAULT_DETECTION });
-    expect(s.feeders).toEqual([{ id: 'F1', nominalHz: 50, nominalVoltageLN: 230, detection: DEFAULT_DETECTION }]);
+    expect(s.defaults).toEqual({ nominalHz: 50, nominalVoltageLN: null, detection: DEFAULT_DETECTION, currentsSumToZero: false });
+    expect(s.feeders).toEqual([{ id: 'F1', nominalHz: 50, nominalVoltageLN: 230, detection: DEFAULT_DETECTION, currentsSumToZero: false }]);
     expect(s.limits).toEqual({ ...DEFAULT_FRAME_LIMITS, maxPayloadBytes: 65536 });
   });
 });

@@ -150,14 +150,14 @@ describe('three-phase and magnitude-only classification', () => {
   });
 
   it('classifies from phase magnitudes when only magnitudes were measured (rms frame): one phase above pickup is a ground fault', () => {
-    const i = currentFromMagnitudes(new Float64Array([4500, 300, 310]), new SequenceScratch());
+    const i = currentFromMagnitudes(new Float64Array([4500, 300, 310]), new SequenceScratch(), false);
     const c = classifyFault(i, FAULT);
     expect(c.method).toBe('phase-magnitudes');
     expect(c.type).toBe('AG');
   });
 
   it('classifies from phase magnitudes two phases above pickup as phase-to-phase, ground not observable', () => {
-    const i = currentFromMagnitudes(new Float64Array([300, 4200, 4100]), new SequenceScratch());
+    const i = currentFromMagnitudes(new Float64Array([300, 4200, 4100]), new SequenceScratch(), false);
     expect(classifyFault(i, FAULT).type).toBe('BC');
   });
 });

@@ -10,7 +10,7 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { angleDiffDeg, magnitudeAt, angleDegAt, polarToRectInto } from '../../../agent/core/complex/complex.js';
 import { fortescueInto } from '../../../agent/core/sequence/fortescue.js';
-import { quantityFromPhasors, SequenceScratch } from '../../../agent/core/sequence/quantities.js';
+import { currentFromMagnitudes, quantityFromPhasors, SequenceScratch } from '../../../agent/core/sequence/quantities.js';
 import {
   betaFromLineMagnitudes,
   ieeePvurPercent,
@@ -170,5 +170,23 @@ describe('result convention for negligible components (shared check-vector conve
     expect(q.u2).toBeNull();
     expect(q.u0).toBeNull();
     expect(q.neg![0]).toBeCloseTo(10, 9);
+  });
+});
+
+describe('current unbalance from phase-current magnitudes alone', () => {
+  it('gives I2/I1 exactly for a three-wire feeder (currents sum to zero): open line c, Glover, Sarma & Overbye Example 8.2', () => {
+    // Ia = 10∠0°, Ib = 10∠180°, Ic = 0: |I2|/|I1| = 1 exactly.
+    const q = currentFromMagnitudes(new Float64Array([10, 10, 0]), new SequenceScratch(), true);
+    expect(q.u2).toBeCloseTo(100, 9);
+    expect(q.pos![0]).toBeCloseTo(10 / Math.sqrt(3), 9);
+    expect(q.pos![1]).toBeNull();
+  });
+
+  it('reports no I2/I1 when the currents may not sum to zero (four-wire feeder), since neutral current would falsify it', () => {
+    // check-vectors.json open-phase-b grounded wye: true |I2|/|I1| = 0.5, but the magnitudes (10, 0, 10) alone would say 1.0.
+    const q = currentFromMagnitudes(new Float64Array([10, 0, 10]), new SequenceScratch(), false);
+    expect(q.u2).toBeNull();
+    expect(q.neg).toBeNull();
+    expect(q.rms).toEqual({ a: 10, b: 0, c: 10 });
   });
 });
