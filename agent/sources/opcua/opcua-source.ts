@@ -239,8 +239,9 @@ export class OpcuaSource implements FrameSource {
       }
       this.broken = null;
       if (this.stopped) break;
+      // One line per distinct reason, not per retry: a refused password would otherwise log on every back-off step.
+      if (reason !== this.lastError) this.options.logger?.warn(`${this.name}: ${reason}; rebuilding the connection`);
       this.lastError = reason;
-      this.options.logger?.warn(`${this.name}: ${reason}; rebuilding the connection`);
       await this.teardown();
       for (const a of this.assemblers.values()) a.dropAll();
       this.c.rebuilds++;
