@@ -205,6 +205,15 @@ describe('InfluxDB store write flow', () => {
     expect(clock.pending()).toBe(0);
   });
 
+  test('answers a query with STORE_QUERY_FAILED while the server is down, naming the server', async () => {
+    mode = 'down';
+    const s = open();
+    await expect(s.queryTrend('F1', '3s', { from: 0, to: t })).rejects.toMatchObject({
+      code: 'STORE_QUERY_FAILED',
+      message: expect.stringContaining(url),
+    });
+  });
+
   test('opens while the server is down and delivers points left in its spool by an earlier run', async () => {
     mode = 'down';
     const path = join(dir, `spool-${++n}.db`);
