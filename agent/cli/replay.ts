@@ -16,6 +16,7 @@
 import type { Writable } from 'node:stream';
 import { IntervalAggregator } from '../core/aggregate/interval-aggregator.js';
 import { CyclePhasorEstimator, frequencyFromCycleAdvance, MIN_SAMPLES_PER_CYCLE } from '../core/dsp/cycle-phasor.js';
+import { VoltageEventDetector } from '../core/dsp/voltage-events.js';
 import { isAgentError } from '../core/errors.js';
 import { createDetectionOutput, FeederDetector, type DetectionOutput } from '../core/detect/feeder-detector.js';
 import { FAULT_DROPOUT_MS } from '../core/detect/fault-recorder.js';
@@ -42,7 +43,8 @@ export const REPLAY_USAGE = `usage: seqmon replay RECORD.cfg|RECORD.cff [options
   --feeder ID               feeder id for the output (default: from the station name)
   --voltage CH,CH,CH        phase a, b, c voltage channels (ch_id or An number)
   --current CH,CH,CH        phase a, b, c current channels (ch_id or An number)
-  --nominal-voltage VOLTS   nominal line-to-neutral voltage, primary (enables voltage-collapse checks)
+  --nominal-voltage VOLTS   nominal line-to-neutral voltage, primary (enables the voltage-collapse
+                            checks of open-phase detection and dip/swell/interruption flags)
   --fault-pickup AMPS       phase current above which a disturbance is classified (default ${DEFAULT_DETECTION.fault.pickupA} A)
   --utc-offset MINUTES      offset from UTC of the recorded times, for 1991/1999 records (default 0)
   --secondary               report secondary instead of primary values
@@ -212,7 +214,9 @@ async function analyse(
 
   if (csv) await writeOut(io.stdout, `${resultCsvHeader()}\n`);
   const scratch = new SequenceScratch();
-  const vBuf = new Float64Array(6), iBuf = new Float64Array(6);
+  const vBuf = new Float64Array(6), iBuf = new Float64Array(6), vRms = new Float64Array(3);
+  // IEC 61000-4-30 §4.7 flags need the declared voltage: dips, swells and interruptions are judged against it.
+  const voltageEvents = opts.nominalVoltage === null ? null : new VoltageEventDetector(opts.nominalVoltage);
   const cycleMs = 1000 / nominalHz;
   let lastEnd = record.startEpochMs;
 
@@ -231,10 +235,17 @@ async function analyse(
       est.plan(pos);
       const whole = Math.floor(pos);
       const ts = record.startEpochMs + (record.timeSec[whole]! + (pos - whole) / seg.rate) * 1000;
-      const vOk = v !== null && phasors(est, v, vBuf);
-      const iOk = i !== null && phasors(est, i, iBuf);
+      const vOk = v !== null && phasors(est, v, vBuf, vRms);
+      const iOk = i !== null && phasors(est, i, iBuf, null);
       const missing = (v !== null && !vOk) || (i !== null && !iOk);
       if (missing) gaps++;
+      let voltageEvent = false;
+      if (voltageEvents !== null && vOk) {
+        // One true-RMS value per cycle (IEC 61000-4-30 refreshes Urms(1/2) every half cycle; per cycle is the coarser form).
+        voltageEvents.beginWindow();
+        voltageEvents.step(vRms[0]!, vRms[1]!, vRms[2]!);
+        voltageEvent = voltageEvents.dipSeen || voltageEvents.swellSeen || voltageEvents.interruptionSeen;
+      }
       const vRes = vOk ? voltageFromPhasors(vBuf, scratch) : null;
       const iRes = iOk ? quantityFromPhasors(iBuf, scratch) : null;
       const ref = vRes?.pos ?? iRes?.pos ?? null;
@@ -246,7 +257,7 @@ async function analyse(
       }
       prevAngle = angle;
       // Window 'frame' inside the core (its window names have no 'cycle'); written out as 'cycle'.
-      const result: SequenceResult = { ts, feeder, window: 'frame', durationMs: cycleMs, freq, flagged: missing, v: vRes, i: iRes, count: 1 };
+      const result: SequenceResult = { ts, feeder, window: 'frame', durationMs: cycleMs, freq, flagged: missing || voltageEvent, v: vRes, i: iRes, count: 1 };
       cycles++;
       if (csv) await writeOut(io.stdout, `${resultCsvRow({ ...result, window: 'cycle' as SequenceResult['window'] })}\n`);
       else await writeOut(io.stdout, `${JSON.stringify({ ...resultToWire(result), window: 'cycle' })}\n`);
@@ -268,9 +279,12 @@ async function analyse(
   return EXIT_OK;
 }
 
-/** One-cycle phasors of three channels into buf; false when a sample in the window is missing (NaN). */
-function phasors(est: CyclePhasorEstimator, ch: Float64Array[], buf: Float64Array): boolean {
-  for (let p = 0; p < 3; p++) est.estimateInto(ch[p]!, buf, 2 * p);
+/** One-cycle phasors (and optionally true RMS) of three channels; false when a sample in the window is missing (NaN). */
+function phasors(est: CyclePhasorEstimator, ch: Float64Array[], buf: Float64Array, rms: Float64Array | null): boolean {
+  for (let p = 0; p < 3; p++) {
+    est.estimateInto(ch[p]!, buf, 2 * p);
+    if (rms !== null) rms[p] = est.lastRms;
+  }
   for (let k = 0; k < 6; k++) if (!Number.isFinite(buf[k]!)) return false;
   return true;
 }

@@ -41,6 +41,8 @@ export class CyclePhasorEstimator {
   private readonly resampler: LagrangeResampler | null;
   private readonly buf: Float64Array;
   private start = 0;
+  /** True RMS (all frequencies) of the window of the last estimateInto() call, for dip/swell checks. */
+  lastRms = 0;
 
   constructor(sampleRate: number, nominalHz: number) {
     if (!(sampleRate > 0) || !(nominalHz > 0)) throw new RangeError(`sample rate (${sampleRate}) and nominal frequency (${nominalHz}) must be positive`);
@@ -91,13 +93,15 @@ export class CyclePhasorEstimator {
       src = this.buf;
       base = 0;
     }
-    let re = 0, im = 0;
+    let re = 0, im = 0, sq = 0;
     const c = this.cos, s = this.sin;
     for (let k = 0; k < n; k++) {
       const v = src[base + k]!;
       re += v * c[k]!;
       im -= v * s[k]!;
+      sq += v * v;
     }
+    this.lastRms = Math.sqrt(sq / n);
     const g = Math.SQRT2 / n;
     out[offset] = re * g;
     out[offset + 1] = im * g;

@@ -169,6 +169,16 @@ describe('seqmon replay formats and record layouts', () => {
     expect(r.err).toMatch(/1 with missing samples, flagged/);
   });
 
+  it('flags the dip of the fault cycles when the nominal voltage is given (IEC 61000-4-30 dip threshold 90 %, from memory)', async () => {
+    const path = await writeRecord('dip', {});
+    const rows = (await run([path, '--nominal-voltage', String(V_LN)])).out.trim().split('\n').map((l) => JSON.parse(l) as Row).filter((l) => l.output === undefined);
+    expect(rows.slice(0, 9).some((r) => r.flagged)).toBe(false);
+    expect(rows.slice(11, 16).every((r) => r.flagged)).toBe(true);
+    expect(rows.slice(20).some((r) => r.flagged)).toBe(false);
+    const plain = (await run([path])).out.trim().split('\n').map((l) => JSON.parse(l) as Row).filter((l) => l.output === undefined);
+    expect(plain.some((r) => r.flagged)).toBe(false);
+  });
+
   it('follows --voltage/--current channel choices', async () => {
     const r = await run([await writeRecord('swap', {}), '--voltage', 'VA,VC,VB']);
     expect(r.code).toBe(0);

@@ -59,6 +59,13 @@ describe('one-cycle DFT phasor', () => {
     expect(tvePct(re, im, 7200, -37)).toBeLessThan(1e-9);
   });
 
+  it('gives the true RMS of the window: the root of the summed squares of DC and every harmonic (Parseval)', () => {
+    const est = new CyclePhasorEstimator(1920, 60);
+    const x = signal(1920, 60, 64, [{ h: 1, rms: 7200, deg: -37 }, { h: 0, rms: 500, deg: 0 }, { h: 3, rms: 720, deg: 20 }]);
+    estimate(est, x, 32);
+    expect(est.lastRms).toBeCloseTo(Math.sqrt(7200 ** 2 + 500 ** 2 + 720 ** 2), 6);
+  });
+
   for (const [rate, f0] of [[1000, 60], [5000, 60], [3030, 50], [1234.5, 50]] as const) {
     it(`stays within 1 % TVE at ${rate} samples/s (${(rate / f0).toFixed(2)} per ${f0} Hz cycle, resampled)`, () => {
       const est = new CyclePhasorEstimator(rate, f0);
