@@ -12,6 +12,7 @@ import { join } from 'node:path';
 import { PassThrough } from 'node:stream';
 import { abs, add, arg, complex, divide, multiply, type Complex } from 'mathjs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { main } from '../../../agent/cli/main.js';
 import { replayCommand } from '../../../agent/cli/replay.js';
 import { I_FAULT, I_FAULT_ANGLE, I_LOAD, I_LOAD_ANGLE, START_MS, V_LN, FAULT_V_RATIO, makeCff, makeFixture, type FixtureOptions } from '../../fixtures/comtrade/fictional-feeder.js';
 
@@ -185,6 +186,31 @@ describe('seqmon replay formats and record layouts', () => {
     const row = JSON.parse(r.out.split('\n')[5]!) as Row;
     // Swapping b and c turns the positive-sequence set into a negative-sequence one.
     expect((row.v.neg as [number, number])[0]).toBeGreaterThan(0.99 * V_LN);
+  });
+});
+
+describe('seqmon replay through the seqmon command', () => {
+  it('is reached as `seqmon replay` and prints its usage with --help', async () => {
+    const stdout = new PassThrough(), stderr = new PassThrough();
+    let out = '';
+    stdout.on('data', (d: Buffer) => (out += d.toString()));
+    const code = await main(['replay', '--help'], { stdin: process.stdin, stdout, stderr, env: {} });
+    expect(code).toBe(0);
+    expect(out).toMatch(/^usage: seqmon replay RECORD\.cfg\|RECORD\.cff/);
+  });
+
+  it('analyses a record with currents only, noting the missing voltages', async () => {
+    const f = makeFixture({ rates: [[1920, 32 * CYCLES]], ...FAULT });
+    const cfg = f.cfg.replace('3,VC,C,AC-12,V,', '3,VX,,AC-12,V,');
+    await writeFile(join(dir, 'ionly.cfg'), cfg);
+    await writeFile(join(dir, 'ionly.dat'), f.dat);
+    const r = await run([join(dir, 'ionly.cfg')]);
+    expect(r.code).toBe(0);
+    expect(r.err).toMatch(/note: no phase c voltage channel found/);
+    const rows = r.out.trim().split('\n').map((l) => JSON.parse(l) as Row).filter((l) => l.output === undefined);
+    expect(rows[5]!.v).toBeNull();
+    expect(Math.abs((rows[5]!.i.pos as [number, number])[0] - I_LOAD) / I_LOAD).toBeLessThan(1e-3);
+    expect(rows[5]!.freq as number).toBeCloseTo(60, 6);
   });
 });
 

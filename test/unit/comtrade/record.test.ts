@@ -34,6 +34,22 @@ describe('sample times', () => {
     for (const k of [1, 100, 639]) expect(Math.abs(record.timeSec[k]! - fixture.times[k]!)).toBeLessThanOrEqual(1e-6);
   });
 
+  it('reads DAT timestamps in nanoseconds when the CFG times carry nine fractional digits (2013)', () => {
+    // Field in ns with timemult 0.001 µs, read as µs: the reference times.
+    const f = makeFixture({ revision: 2013, timestampsOnly: true, timeMult: 0.001 });
+    const cfgUs = parseCfg(f.cfg, { fileName: 'x.cfg' });
+    const ref = buildRecord(cfgUs, parseDat(cfgUs, f.dat, { fileName: 'x.dat' }));
+    // Same field, timemult 1, times written to the nanosecond: the field must now be read as ns.
+    const lines = f.cfg.split('\r\n');
+    lines[13] = '02/03/2026,14:03:07.250000000';
+    lines[16] = '1';
+    const cfgNs = parseCfg(lines.join('\r\n'), { fileName: 'x.cfg' });
+    const ns = buildRecord(cfgNs, parseDat(cfgNs, f.dat, { fileName: 'x.dat' }));
+    for (const k of [1, 333, 639]) expect(ns.timeSec[k]).toBeCloseTo(ref.timeSec[k]!, 12);
+    // Sample 640 lies 639 periods of 1/1920 s after the first (the fixture's rate); ns timestamps hold that to 1 ns.
+    expect(ns.timeSec[639]).toBeCloseTo(639 / 1920, 9);
+  });
+
   it('finds the rate of evenly timestamped samples when nrates is 0', () => {
     const { record } = recordOf({ revision: 2013, timestampsOnly: true });
     expect(record.segments.length).toBe(1);
