@@ -13,7 +13,7 @@ import { influxdInstalled, INFLUXD_PATH, startInfluxd } from '../test/helpers/in
 import { DAY, chunks, medianMs, series } from './_store-data.mjs';
 
 const BATCH = 5000;
-const REPEATS = 2;
+const REPEATS = 3;
 
 async function post(url, path, body) {
   const res = await fetch(`${url}${path}`, { method: 'POST', body });
