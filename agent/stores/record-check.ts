@@ -1,8 +1,8 @@
 /**
  * Checks every record before any of its batch is stored, so a bad record is
  * refused with a coded error that names the field, and a batch is either
- * stored whole or not at all (RULES 5: nothing already accepted is lost,
- * nothing half-written).
+ * stored whole or not at all: nothing already accepted is lost, nothing
+ * half-written.
  */
 import { AgentError } from '../core/errors.js';
 import { ALARM_CONDITIONS, FAULT_TYPES, type AlarmTransition, type DisturbanceEvent } from '../core/detect/types.js';
@@ -148,16 +148,17 @@ function eventFields(e: DisturbanceEvent): void {
   timestamp(e.ts);
   oneOf(e.type, FAULT_TYPES, 'type');
   finite(e.durationMs, 'durationMs');
+  if (e.durationMs < 0) throw new FieldProblem('durationMs', `must not be negative, found ${e.durationMs}`);
   finite(e.peakCurrent, 'peakCurrent');
+  if (e.peakCurrent < 0) throw new FieldProblem('peakCurrent', `must not be negative, found ${e.peakCurrent}`);
   oneOf(e.peakPhase, PHASES, 'peakPhase');
   finiteOrNull(e.i0OverI1, 'i0OverI1');
   finiteOrNull(e.i2OverI1, 'i2OverI1');
   if (typeof e.message !== 'string') throw new FieldProblem('message', `must be a string, found ${describe(e.message)}`);
 }
 
-function refuse(what: string, p: FieldProblem, cause: unknown): AgentError {
+function refuse(what: string, p: FieldProblem): AgentError {
   return new AgentError('STORE_WRITE_FAILED', `${what}: ${p.field} ${p.problem}; nothing of this batch was stored`, {
-    cause,
     details: { field: p.field },
   });
 }
@@ -169,7 +170,7 @@ export function checkResults(results: readonly SequenceResult[]): void {
     try {
       resultFields(results[k]);
     } catch (e) {
-      if (e instanceof FieldProblem) throw refuse(`result ${k} of the batch`, e, undefined);
+      if (e instanceof FieldProblem) throw refuse(`result ${k} of the batch`, e);
       throw e;
     }
   }
@@ -179,7 +180,7 @@ export function checkAlarm(a: AlarmTransition): void {
   try {
     alarmFields(a);
   } catch (e) {
-    if (e instanceof FieldProblem) throw refuse('alarm transition', e, undefined);
+    if (e instanceof FieldProblem) throw refuse('alarm transition', e);
     throw e;
   }
 }
@@ -188,7 +189,7 @@ export function checkEvent(e: DisturbanceEvent): void {
   try {
     eventFields(e);
   } catch (err) {
-    if (err instanceof FieldProblem) throw refuse('disturbance event', err, undefined);
+    if (err instanceof FieldProblem) throw refuse('disturbance event', err);
     throw err;
   }
 }

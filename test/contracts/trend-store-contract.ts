@@ -12,7 +12,7 @@ import { DAY, HOUR, MINUTE, WINDOW_MS, alarm, disturbance, fullResult, hollowRes
 export interface ContractOptions {
   /** The kind reported by health(). */
   readonly kind: string;
-  /** Only for a server binary that is not installed (RULES 9). */
+  /** Only for a server binary that is not installed on this machine. */
   readonly skip?: boolean;
 }
 

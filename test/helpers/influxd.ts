@@ -1,7 +1,7 @@
 /**
  * A private influxd for integration tests (see influxd-process.mjs, shared
  * with the benchmarks). `hasInfluxd` is false only when the binary is not
- * installed; tests skip on that alone (RULES 9).
+ * installed; tests skip on that alone, never because a server misbehaves.
  */
 import { influxdInstalled, startInfluxd, type InfluxdHandle } from './influxd-process.mjs';
 
