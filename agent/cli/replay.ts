@@ -259,7 +259,7 @@ async function analyse(
       // Window 'frame' inside the core (its window names have no 'cycle'); written out as 'cycle'.
       const result: SequenceResult = { ts, feeder, window: 'frame', durationMs: cycleMs, freq, flagged: missing || voltageEvent, v: vRes, i: iRes, count: 1 };
       cycles++;
-      if (csv) await writeOut(io.stdout, `${resultCsvRow({ ...result, window: 'cycle' as SequenceResult['window'] })}\n`);
+      if (csv) await writeOut(io.stdout, `${resultCsvRow({ ...result, window: 'cycle' })}\n`);
       else await writeOut(io.stdout, `${JSON.stringify({ ...resultToWire(result), window: 'cycle' })}\n`);
       detector.onValue(result, det);
       aggregator.push(result, (a) => aggregates.push(a));

@@ -43,7 +43,7 @@ export interface VoltageResult extends QuantityResult {
   pvur: number | null;
 }
 
-export type WindowName = 'frame' | 'basic' | '3s' | '10min' | '2h';
+export type WindowName = 'frame' | 'cycle' | 'basic' | '3s' | '10min' | '2h';
 export const AGGREGATE_WINDOWS = ['3s', '10min', '2h'] as const;
 export type AggregateWindow = (typeof AGGREGATE_WINDOWS)[number];
 
