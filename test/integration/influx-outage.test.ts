@@ -6,7 +6,7 @@ import { fileURLToPath } from 'node:url';
 import { afterAll, afterEach, beforeAll, describe, expect, test } from 'vitest';
 import type { SequenceResult } from '../../agent/core/result.js';
 import { InfluxStore } from '../../agent/stores/influx/influx-store.js';
-import { DAY, fullResult, recentBase } from '../contracts/trend-store-fixtures.js';
+import { DAY, alarm, disturbance, fullResult, recentBase } from '../contracts/trend-store-fixtures.js';
 import { freePort, waitFor } from '../helpers/free-port.js';
 import { hasInfluxd, influxQuery, startInfluxd, type InfluxdHandle } from '../helpers/influxd.js';
 import { Teardown } from '../helpers/teardown.js';
@@ -29,7 +29,7 @@ describe.skipIf(!hasInfluxd)('InfluxDB store through an outage', () => {
   afterAll(() => server?.dispose());
   afterEach(() => teardown.run());
 
-  test('delivers every point exactly once when InfluxDB stops mid-stream and comes back', async () => {
+  test('delivers every point, alarm and event exactly once when InfluxDB stops mid-stream and comes back', async () => {
     const db = 'outage';
     const store = new InfluxStore({
       url: server.url,
@@ -70,6 +70,10 @@ describe.skipIf(!hasInfluxd)('InfluxDB store through an outage', () => {
     expect(during.queued).toBeGreaterThanOrEqual(10 * 50);
     expect(during.queueCapacity).toBe(1_000_000);
     expect(during.detail).toMatch(/unreachable|failed/);
+    const raised = alarm('OUT1', base + 60_000, { condition: 'open-phase', level: 'alarm', phase: 'c', value: 0.97, limit: 0.5 });
+    const fault = disturbance('OUT1', base + 61_000);
+    await store.writeAlarm(raised);
+    await store.writeEvent(fault);
     await server.start();
     await stream;
     await waitFor(() => store.health().queued === 0, 10_000, 10);
@@ -79,6 +83,8 @@ describe.skipIf(!hasInfluxd)('InfluxDB store through an outage', () => {
     const back = await store.queryTrend('OUT1', '3s', { from: base, to: base + DAY });
     expect(back.map((r) => r.ts)).toEqual(written);
     expect(back[back.length - 1]).toStrictEqual(fullResult('OUT1', '3s', written[written.length - 1], 49));
+    expect(await store.activeAlarms()).toStrictEqual([raised]);
+    expect(await store.queryEvents({ feeder: 'OUT1' })).toStrictEqual([fault]);
   });
 
   test('keeps queued points through a SIGKILL of the writing process and delivers them at the next start', async () => {
