@@ -54,7 +54,7 @@ export async function run() {
   for (let b = 0; b < BLOCKS; b++) {
     const s = b * BLOCK, e = s + BLOCK;
     frames.push({
-      kind: 'samples', feeder: 'B1', ts: 0, rate: RATE, length: BLOCK,
+      kind: 'samples', feeder: 'B1', ts: 0.5, rate: RATE, length: BLOCK,
       v: [v[0].subarray(s, e), v[1].subarray(s, e), v[2].subarray(s, e)],
       i: [i[0].subarray(s, e), i[1].subarray(s, e), i[2].subarray(s, e)],
     });

@@ -74,6 +74,11 @@ export class HalfWindowRefiner {
    * trial frequency is wrong by a whole bin or the input is noise.
    */
   fundamentalFraction = 0;
+  /**
+   * Set by relativeCorrection(): the relative correction f/f_j - 1, or NaN
+   * when the positive-sequence phasor is too small to carry a reliable angle.
+   */
+  correction = 0;
 
   constructor(points: number, cycles: number) {
     if (points % 2 !== 0 || cycles % 2 !== 0) throw new RangeError('half-window refinement needs an even number of points and of cycles');
@@ -90,11 +95,14 @@ export class HalfWindowRefiner {
 
   /**
    * Relative frequency correction f/f_j - 1 from the resampled phases a, b, c
-   * (any of them may be all zero). NaN when the positive-sequence phasor is
-   * too small against the phase phasors to carry a reliable angle (no
-   * voltage, or a pure negative/zero-sequence set).
+   * (any of them may be all zero), into `correction` and `fundamentalFraction`.
+   * NaN when the positive-sequence phasor is too small against the phase
+   * phasors to carry a reliable angle (no voltage, or a pure
+   * negative/zero-sequence set). Results go to fields rather than a return
+   * value: a double returned from a call V8 does not inline is boxed, an
+   * allocation on every window.
    */
-  relativeCorrection(a: Float64Array, b: Float64Array, c: Float64Array): number {
+  update(a: Float64Array, b: Float64Array, c: Float64Array): void {
     const half = this.points >> 1;
     const cs = this.cos, sn = this.sin;
     // Half-window DFT sums at the fundamental bin; scale factors cancel in the angle.
@@ -124,11 +132,22 @@ export class HalfWindowRefiner {
     const p2i = ai2 + SQRT3_2 * br2 - 0.5 * bi2 - SQRT3_2 * cr2 - 0.5 * ci2;
     const atFundamental = ar1 * ar1 + ai1 * ai1 + br1 * br1 + bi1 * bi1 + cr1 * cr1 + ci1 * ci1 + ar2 * ar2 + ai2 * ai2 + br2 * br2 + bi2 * bi2 + cr2 * cr2 + ci2 * ci2;
     this.fundamentalFraction = energy > 0 ? (atFundamental * 4) / (this.points * energy) : 0;
-    const largest = Math.max(Math.hypot(ar1, ai1), Math.hypot(br1, bi1), Math.hypot(cr1, ci1));
+    // Squared magnitudes (Math.hypot is not inlined by V8 and would box its result on every call).
+    const largestSq = Math.max(ar1 * ar1 + ai1 * ai1, br1 * br1 + bi1 * bi1, cr1 * cr1 + ci1 * ci1);
     // A single live phase still gives |3·X1| = |Xa|; below 5 % the set is essentially not positive sequence.
-    if (!(largest > 0) || Math.hypot(p1r, p1i) < 0.05 * largest || Math.hypot(p2r, p2i) < 0.05 * largest) return Number.NaN;
+    const floorSq = 0.05 * 0.05 * largestSq;
+    if (!(largestSq > 0) || p1r * p1r + p1i * p1i < floorSq || p2r * p2r + p2i * p2i < floorSq) {
+      this.correction = Number.NaN;
+      return;
+    }
     // Angle of P2·conj(P1).
     const dphi = Math.atan2(p2i * p1r - p2r * p1i, p2r * p1r + p2i * p1i);
-    return dphi / (Math.PI * this.cycles);
+    this.correction = dphi / (Math.PI * this.cycles);
+  }
+
+  /** update() followed by reading `correction`; for callers off the hot path. */
+  relativeCorrection(a: Float64Array, b: Float64Array, c: Float64Array): number {
+    this.update(a, b, c);
+    return this.correction;
   }
 }

@@ -185,8 +185,9 @@ export class WaveformEstimator {
       const n = Math.min(frame.length - offset, this.capacity - this.length);
       // Cannot happen while the capacity exceeds the longest window plus taps; refuse rather than spin.
       if (n === 0) throw new AgentError('INTERNAL', `basic-window buffer of ${this.capacity} samples is full at ${this.rate} samples/s with no window to take out`);
-      if (frame.v !== null) for (let c = 0; c < 3; c++) this.buffers[V + c]!.set(frame.v[c]!.subarray(offset, offset + n), this.length);
-      if (frame.i !== null) for (let c = 0; c < 3; c++) this.buffers[I + c]!.set(frame.i[c]!.subarray(offset, offset + n), this.length);
+      // Plain copy loops: subarray() views would allocate an object per channel and block.
+      if (frame.v !== null) for (let c = 0; c < 3; c++) copyInto(frame.v[c]!, offset, n, this.buffers[V + c]!, this.length);
+      if (frame.i !== null) for (let c = 0; c < 3; c++) copyInto(frame.i[c]!, offset, n, this.buffers[I + c]!, this.length);
       this.length += n;
       offset += n;
       while (this.nextWindow(emit)) {
@@ -271,13 +272,15 @@ export class WaveformEstimator {
     for (let iter = 0; iter < MAX_ITERATIONS; iter++) {
       if (!this.fits((N * rate) / f)) return false;
       done = this.resampleSet(set, f, 0);
-      let rel = this.refiner.relativeCorrection(this.resampled[set]!, this.resampled[set + 1]!, this.resampled[set + 2]!);
-      if (!Number.isFinite(rel) && set === primary && secondary >= 0) {
+      const refiner = this.refiner;
+      refiner.update(this.resampled[set]!, this.resampled[set + 1]!, this.resampled[set + 2]!);
+      if (!Number.isFinite(refiner.correction) && set === primary && secondary >= 0) {
         set = secondary;
         done = this.resampleSet(set, f, done);
-        rel = this.refiner.relativeCorrection(this.resampled[set]!, this.resampled[set + 1]!, this.resampled[set + 2]!);
+        refiner.update(this.resampled[set]!, this.resampled[set + 1]!, this.resampled[set + 2]!);
       }
-      fraction = this.refiner.fundamentalFraction;
+      const rel = refiner.correction;
+      fraction = refiner.fundamentalFraction;
       if (fraction < MIN_FUNDAMENTAL_FRACTION && !acquired) {
         // Lock lost: a frequency step beyond the refiner's ±f/N range, or the signal back after an outage. Acquire again.
         const c = this.acquire();
@@ -471,6 +474,10 @@ export class WaveformEstimator {
       if (this.hasI) this.iRms[c] = Math.sqrt(ms[I + c]! / span);
     }
   }
+}
+
+function copyInto(src: Float64Array, from: number, count: number, dst: Float64Array, at: number): void {
+  for (let k = 0; k < count; k++) dst[at + k] = src[from + k]!;
 }
 
 function thdPercent(harmonicSq: number, re: number, im: number): number {
