@@ -182,6 +182,19 @@ describe('dashboard feeder view', () => {
     await p.evaluate(() => localStorage.removeItem('seqmon.theme'));
   });
 
+  it('switches the phase colours to the high-contrast alternative and back', async () => {
+    const p = await open('/#/feeder/EH-F1');
+    await p.waitForSelector('line.phasor-line[data-quantity="v"][data-phase="a"]');
+    const stroke = () => p.$eval('line.phasor-line[data-quantity="v"][data-phase="a"]', (e) => getComputedStyle(e).stroke);
+    const iec = await stroke();
+    await p.selectOption('#palette-select', 'contrast');
+    // Okabe-Ito orange #e69f00 for L1 (docs/dashboard.md).
+    expect(await stroke()).toBe('rgb(230, 159, 0)');
+    await p.screenshot({ path: join(ARTIFACTS, 'feeder-high-contrast.png') });
+    await p.selectOption('#palette-select', 'iec');
+    expect(await stroke()).toBe(iec);
+  });
+
   it('changes the charts when another time range is picked', async () => {
     const p = await open('/#/feeder/EH-F1');
     const chart = '[data-chart="vU2"]';
