@@ -228,6 +228,28 @@ describe('emission', () => {
     expect(c.of('10min').length).toBe(0);
   });
 
+  test('closeBefore closes a short group of basic windows once its remaining windows are overdue, flagged for missing coverage', () => {
+    const agg = new IntervalAggregator({ feeder: 'F1', nominalHz: 60 });
+    const c = collector();
+    const end = basicWindows(agg, c.emit, T0, 5);
+    // Ten more windows of 200 ms were due by end + 2000 ms.
+    agg.closeBefore(end + 1999, c.emit);
+    expect(c.of('3s').length).toBe(0);
+    agg.closeBefore(end + 2000, c.emit);
+    expect(c.of('3s').map((a) => [a.count, a.flagged])).toEqual([[5, true]]);
+  });
+
+  test('a frame arriving during a group of basic windows counts in the 10-min value but not in the 3-s value', () => {
+    const agg = new IntervalAggregator({ feeder: 'F1', nominalHz: 50 });
+    const c = collector();
+    const ts = basicWindows(agg, c.emit, T0, 7);
+    agg.push(value({ ts: ts + 10 }), c.emit);
+    basicWindows(agg, c.emit, ts, 8);
+    agg.flush(c.emit);
+    expect(c.of('3s')[0]!.count).toBe(15);
+    expect(c.of('10min')[0]!.count).toBe(16);
+  });
+
   test('flush emits open intervals as partial: count below the full count and flagged for missing coverage', () => {
     const agg = new IntervalAggregator({ feeder: 'F1', nominalHz: 50 });
     const c = collector();
