@@ -54,29 +54,46 @@ function timestamp(x: unknown): void {
   }
 }
 
+interface PhasorNames {
+  readonly key: 'zero' | 'pos' | 'neg';
+  readonly name: string;
+  readonly magnitude: string;
+  readonly angle: string;
+}
+
+interface TripleNames {
+  readonly key: 'rms' | 'thd' | 'rmsLL';
+  readonly name: string;
+  readonly keys: readonly string[];
+  readonly names: readonly string[];
+}
+
 /** Field names of one quantity, built once, so checking a record builds no strings unless it fails. */
 interface QuantityNames {
   readonly self: string;
-  readonly phasors: readonly (readonly [key: 'zero' | 'pos' | 'neg', name: string, magnitude: string, angle: string])[];
+  readonly phasors: readonly PhasorNames[];
   readonly u2: string;
   readonly u0: string;
-  readonly triples: readonly (readonly [key: string, name: string, keys: readonly string[], names: readonly string[]])[];
+  readonly triples: readonly TripleNames[];
   readonly lvur: string;
   readonly pvur: string;
 }
 
 function quantityNames(q: 'v' | 'i'): QuantityNames {
-  const triples: [string, string, readonly string[]][] = [
-    ['rms', `${q}.rms`, PHASES],
-    ['thd', `${q}.thd`, PHASES],
-  ];
-  if (q === 'v') triples.push(['rmsLL', 'v.rmsLL', ['ab', 'bc', 'ca']]);
+  const triple = (key: TripleNames['key'], keys: readonly string[]): TripleNames => ({
+    key,
+    name: `${q}.${key}`,
+    keys,
+    names: keys.map((c) => `${q}.${key}.${c}`),
+  });
+  const triples = [triple('rms', PHASES), triple('thd', PHASES)];
+  if (q === 'v') triples.push(triple('rmsLL', ['ab', 'bc', 'ca']));
   return {
     self: q,
-    phasors: (['zero', 'pos', 'neg'] as const).map((k) => [k, `${q}.${k}`, `${q}.${k}[0]`, `${q}.${k}[1]`] as const),
+    phasors: (['zero', 'pos', 'neg'] as const).map((key) => ({ key, name: `${q}.${key}`, magnitude: `${q}.${key}[0]`, angle: `${q}.${key}[1]` })),
     u2: `${q}.u2`,
     u0: `${q}.u0`,
-    triples: triples.map(([k, name, keys]) => [k, name, keys, keys.map((c) => `${name}.${c}`)] as const),
+    triples,
     lvur: `${q}.lvur`,
     pvur: `${q}.pvur`,
   };
@@ -92,20 +109,22 @@ function isObject(x: unknown): x is Record<string, unknown> {
 function quantity(x: unknown, n: QuantityNames, voltage: boolean): void {
   if (x === null) return;
   if (!isObject(x)) throw new FieldProblem(n.self, `must be an object or null, found ${describe(x)}`);
-  for (const [key, name, magnitude, angle] of n.phasors) {
-    const p = x[key];
+  for (let k = 0; k < n.phasors.length; k++) {
+    const names = n.phasors[k];
+    const p = x[names.key];
     if (p === null) continue;
-    if (!Array.isArray(p) || p.length !== 2) throw new FieldProblem(name, `must be [magnitude, angle] or null, found ${describe(p)}`);
-    finite(p[0], magnitude);
-    finiteOrNull(p[1], angle);
+    if (!Array.isArray(p) || p.length !== 2) throw new FieldProblem(names.name, `must be [magnitude, angle] or null, found ${describe(p)}`);
+    finite(p[0], names.magnitude);
+    finiteOrNull(p[1], names.angle);
   }
   finiteOrNull(x.u2, n.u2);
   finiteOrNull(x.u0, n.u0);
-  for (const [key, name, keys, names] of n.triples) {
-    const t = x[key];
+  for (let k = 0; k < n.triples.length; k++) {
+    const names = n.triples[k];
+    const t = x[names.key];
     if (t === null) continue;
-    if (!isObject(t)) throw new FieldProblem(name, `must be an object or null, found ${describe(t)}`);
-    for (let k = 0; k < keys.length; k++) finite(t[keys[k]], names[k]);
+    if (!isObject(t)) throw new FieldProblem(names.name, `must be an object or null, found ${describe(t)}`);
+    for (let j = 0; j < names.keys.length; j++) finite(t[names.keys[j]], names.names[j]);
   }
   if (voltage) {
     finiteOrNull(x.lvur, n.lvur);
