@@ -5,6 +5,7 @@ import { afterAll, afterEach, beforeAll, describe, expect, test } from 'vitest';
 import { InfluxStore, type InfluxStoreOptions } from '../../agent/stores/influx/influx-store.js';
 import { trendStoreContract } from '../contracts/trend-store-contract.js';
 import { DAY, fullResult, recentBase, sparseResult } from '../contracts/trend-store-fixtures.js';
+import { waitFor } from '../helpers/free-port.js';
 import { hasInfluxd, influxQuery, startInfluxd, type InfluxdHandle } from '../helpers/influxd.js';
 import { Teardown } from '../helpers/teardown.js';
 
@@ -111,6 +112,18 @@ describe.skipIf(!hasInfluxd)('InfluxDB store against a real influxd', () => {
     expect(await s.queryTrend("F1' OR feeder =~ /.*/ OR feeder = '", '3s', { from: 0, to: t + DAY })).toEqual([]);
     expect(await s.queryAlarms({ feeder: 'a\\\'b"c' })).toEqual([]);
     expect(await s.queryTrend('F1', '3s', { from: 0, to: t + DAY })).toHaveLength(1);
+  });
+
+  test('recreates its database and retention policies when they are dropped under it, losing no write', async () => {
+    const s = open({ retryMinMs: 10, retryMaxMs: 50 });
+    const db = s['ep'].database;
+    const t = recentBase();
+    await s.writeResults([fullResult('F1', '3s', t)]);
+    const res = await fetch(`${server!.url}/query?q=${encodeURIComponent(`DROP DATABASE "${db}"`)}`, { method: 'POST' });
+    expect(res.status).toBe(200);
+    await s.writeResults([fullResult('F1', '3s', t + 3000)]);
+    await waitFor(() => s.health().queued === 0, 5_000, 10);
+    expect((await s.queryTrend('F1', '3s', { from: t, to: t + DAY })).map((r) => r.ts)).toEqual([t + 3000]);
   });
 
   test('answers queries against a database it has not written yet with empty lists', async () => {
