@@ -11,6 +11,12 @@ import { join } from 'node:path';
 
 export const INFLUXD_PATH = process.env.SEQMON_INFLUXD ?? '/usr/bin/influxd';
 
+/** Servers still running, so a test process that ends abruptly does not leave influxd behind. */
+const running = new Set();
+process.once('exit', () => {
+  for (const child of running) child.kill('SIGKILL');
+});
+
 export function influxdInstalled() {
   return existsSync(INFLUXD_PATH);
 }
@@ -98,8 +104,10 @@ export async function startInfluxd(options = {}) {
       const child = spawn(INFLUXD_PATH, ['-config', confPath], { stdio: ['ignore', log, log] });
       closeSync(log);
       proc = child;
+      running.add(child);
       exited = new Promise((r) => child.once('exit', () => r()));
       child.once('exit', () => {
+        running.delete(child);
         if (proc === child) proc = null;
       });
       const deadline = Date.now() + startTimeoutMs;
