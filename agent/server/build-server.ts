@@ -39,6 +39,7 @@ export async function buildServer(deps: ServerDeps): Promise<FastifyInstance> {
     logController: new LogController({ disableRequestLogging: true }),
     trustProxy: false,
     return503OnClosing: true,
+    ...(deps.https != null ? { https: { cert: deps.https.cert, key: deps.https.key } } : {}),
   };
   const app: FastifyInstance = deps.logger === false ? Fastify({ ...base, logger: false }) : (Fastify({ ...base, loggerInstance: deps.logger }) as unknown as FastifyInstance);
 

@@ -105,6 +105,8 @@ export interface ServerDeps {
   readonly security: SecuritySettings;
   /** A pino logger (or fastify's logger options turned off with false). */
   readonly logger: FastifyBaseLogger | false;
+  /** Certificate and key (PEM) to serve HTTPS; null or absent serves plain HTTP. */
+  readonly https?: { readonly cert: string | Buffer; readonly key: string | Buffer } | null | undefined;
   /** Clock for default time ranges and the rate limiter; Date.now when absent (tests pass their own). */
   readonly now?: (() => number) | undefined;
   /** SSE heartbeat interval, ms (15 000 when absent). */
