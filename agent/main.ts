@@ -379,6 +379,7 @@ export class SeqmonService {
     this.dispatch();
     this.flushStore();
     await step('store writes', () => this.storeChain);
+    this.rejections.flush();
     if (this.publisher !== null) await step('publisher', () => this.publisher!.close());
     await step('store', () => this.store.close());
     this.live.destroy();

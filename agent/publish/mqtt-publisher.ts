@@ -89,35 +89,9 @@ export interface MqttPublisherCounters {
   errors: number;
 }
 
-/** The exact payload of `<out>/<feeder>/alarm/<condition>`. */
-export function alarmToWire(t: AlarmTransition): Record<string, unknown> {
-  return {
-    ts: isoTime(t.ts),
-    feeder: t.feeder,
-    condition: t.condition,
-    state: t.state,
-    level: t.level,
-    value: t.value === null ? null : roundForWire(t.value),
-    limit: t.limit === null ? null : roundForWire(t.limit),
-    phase: t.phase,
-    message: t.message,
-  };
-}
+import { alarmToWire, eventToWire } from '../core/detect/wire.js';
 
-/** The exact payload of `<out>/<feeder>/event`. */
-export function eventToWire(e: DisturbanceEvent): Record<string, unknown> {
-  return {
-    ts: isoTime(e.ts),
-    feeder: e.feeder,
-    type: e.type,
-    durationMs: roundForWire(e.durationMs),
-    peakCurrent: roundForWire(e.peakCurrent),
-    peakPhase: e.peakPhase,
-    i0OverI1: e.i0OverI1 === null ? null : roundForWire(e.i0OverI1),
-    i2OverI1: e.i2OverI1 === null ? null : roundForWire(e.i2OverI1),
-    message: e.message,
-  };
-}
+export { alarmToWire, eventToWire };
 
 const SILENT: PublisherLogger = { info: () => undefined, warn: () => undefined, error: () => undefined, debug: () => undefined };
 const DEFAULT_RECONNECT = { minMs: 500, maxMs: 30_000 };
