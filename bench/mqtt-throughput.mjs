@@ -200,7 +200,7 @@ function withDeadline(p) {
 
 // ---- a private mosquitto on a free loopback port (same settings as test/helpers/mosquitto.ts) ----
 
-async function startBroker() {
+export async function startBroker() {
   const port = await freePort();
   const dir = mkdtempSync(join(tmpdir(), 'seqmon-bench-mosquitto-'));
   const conf = join(dir, 'mosquitto.conf');

@@ -46,9 +46,9 @@ export function quantityFromPhasors(abc: Float64Array, s: SequenceScratch, thd: 
 /** Voltage part from line-to-neutral phasors: adds L-L magnitudes and the NEMA/IEEE rates. */
 export function voltageFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): VoltageResult {
   const q = quantityFromPhasors(abc, s, thd);
-  const ab = Math.sqrt((abc[0]! - abc[2]!) ** 2 + (abc[1]! - abc[3]!) ** 2);
-  const bc = Math.sqrt((abc[2]! - abc[4]!) ** 2 + (abc[3]! - abc[5]!) ** 2);
-  const ca = Math.sqrt((abc[4]! - abc[0]!) ** 2 + (abc[5]! - abc[1]!) ** 2);
+  const ab = hypot2(abc[0]! - abc[2]!, abc[1]! - abc[3]!);
+  const bc = hypot2(abc[2]! - abc[4]!, abc[3]! - abc[5]!);
+  const ca = hypot2(abc[4]! - abc[0]!, abc[5]! - abc[1]!);
   const rms = q.rms!;
   // An explicit literal (not a spread of q): one stable object shape, created once per frame.
   return {
@@ -126,4 +126,8 @@ export function currentFromMagnitudes(mags: Float64Array, s: SequenceScratch, su
 
 function finiteOrNull(x: number): number | null {
   return Number.isFinite(x) ? x : null;
+}
+
+function hypot2(x: number, y: number): number {
+  return Math.sqrt(x * x + y * y);
 }
