@@ -161,7 +161,7 @@ describe('result convention for negligible components (shared check-vector conve
   });
 
   it('reports u2 and u0 as null when there is no positive sequence (a balanced acb set is pure negative sequence)', () => {
-    // check-vectors.json course-notes-acb-balanced-set: neg_over_pos = null.
+    // check-vectors.json worked-examples-acb-balanced-set: neg_over_pos = null.
     const abc = new Float64Array(6);
     polarToRectInto(10, 0, abc, 0);
     polarToRectInto(10, 120, abc, 2);
