@@ -230,7 +230,13 @@ export class SeqmonService {
     return {
       push: (raw: RawFrame): boolean => {
         const t0 = process.hrtime.bigint();
-        this.pipeline.ingest(raw, this.out);
+        try {
+          this.pipeline.ingest(raw, this.out);
+        } catch (err) {
+          // A defect in processing one frame must not take the service down: log it with where the frame came from and go on.
+          this.logger.error({ err, origin: raw.origin, feeder: raw.feeder ?? null }, 'internal error while processing a frame; frame dropped');
+          this.metrics.frameRejected(raw.feeder ?? '(unknown)', 'INTERNAL');
+        }
         this.dispatch();
         this.metrics.observeLatency(Number(process.hrtime.bigint() - t0) / 1e9);
         return this.storeBacklog < STORE_BACKLOG_LIMIT;
@@ -242,7 +248,11 @@ export class SeqmonService {
   }
 
   private tick(): void {
-    this.pipeline.tick(Date.now(), this.out);
+    try {
+      this.pipeline.tick(Date.now(), this.out);
+    } catch (err) {
+      this.logger.error({ err }, 'internal error in the periodic tick');
+    }
     this.dispatch();
     this.rejections.tick();
   }
