@@ -110,3 +110,49 @@ feeders:
     }, 10_000);
   });
 });
+
+describe.skipIf(!mosquittoAvailable())('alarms across a restart', () => {
+  it('restores a raised alarm from the store after a restart and does not announce it again', async () => {
+    const broker = await Mosquitto.start();
+    td.add(() => broker.stop());
+    const dir = mkdtempSync(join(tmpdir(), 'seqmon-restart-'));
+    td.add(() => rmSync(dir, { recursive: true, force: true }));
+    const httpPort = await freePort();
+    const yaml = `
+dataDir: ${dir}
+mqtt: { url: "${broker.url}" }
+http: { port: ${httpPort} }
+feeders:
+  discover: true
+  defaults:
+    nominalVoltageLN: 7200
+    detection:
+      voltageUnbalance: { warning: 2, alarm: 3, pickupMs: 3000, dropoutMs: 3000 }
+`;
+    const config = parseConfigText(yaml, null, {}, dir);
+    const logger = createLogger({ level: 'silent' });
+    const out = await subscriber(broker.url, 'seqmon/out/+/alarm/#');
+    td.add(() => out.client.endAsync());
+    const pub = await mqtt.connectAsync(broker.url);
+    td.add(() => pub.endAsync());
+    const t0 = Math.floor(Date.now() / 3000) * 3000 - 60_000;
+
+    const first = await SeqmonService.start(config, { logger, dashboardDir: null });
+    for (let k = 0; k < 120; k++) await pub.publishAsync('seqmon/in/F9/phasor', frame(t0 + 100 * k), { qos: 1 });
+    await waitFor(() => out.messages.some((m) => m.payload.state === 'raised'), 10_000);
+    await first.close();
+    const raisedBefore = out.messages.filter((m) => m.payload.state === 'raised').length;
+
+    const second = await SeqmonService.start(config, { logger, dashboardDir: null });
+    td.add(() => second.close());
+    // The same unbalanced data goes on after the restart.
+    for (let k = 120; k < 240; k++) await pub.publishAsync('seqmon/in/F9/phasor', frame(t0 + 100 * k), { qos: 1 });
+    await waitFor(async () => {
+      const body = (await (await fetch(`http://127.0.0.1:${httpPort}/api/feeders/F9/latest`)).json()) as { result: { ts: string } | null };
+      return body.result !== null && Date.parse(body.result.ts) >= t0 + 100 * 239;
+    }, 10_000);
+    const active = (await (await fetch(`http://127.0.0.1:${httpPort}/api/alarms?active=true&feeder=F9`)).json()) as { alarms: { condition: string; state: string }[] };
+    expect(active.alarms.map((a) => [a.condition, a.state])).toEqual([['voltage-unbalance', 'raised']]);
+    expect(out.messages.filter((m) => m.payload.state === 'raised').length).toBe(raisedBefore);
+  });
+});
