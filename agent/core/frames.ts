@@ -128,13 +128,15 @@ export interface ValidateOptions {
 /** Validates a raw payload (Buffer/string) including the size check before parsing. */
 export function parseFrame(payload: string | Uint8Array, options: ValidateOptions = {}): FrameResult {
   const limits = options.limits ?? DEFAULT_FRAME_LIMITS;
-  const size = typeof payload === 'string' ? Buffer.byteLength(payload) : payload.byteLength;
+  // A UTF-16 unit is at most 3 UTF-8 bytes: only a long string needs the exact (linear-time) byte count.
+  const size =
+    typeof payload !== 'string' ? payload.byteLength : payload.length * 3 <= limits.maxPayloadBytes ? payload.length : Buffer.byteLength(payload);
   if (size > limits.maxPayloadBytes) {
     return rejected('FRAME_TOO_LARGE', null, `payload of ${size} bytes exceeds the limit of ${limits.maxPayloadBytes} bytes`);
   }
   let json: unknown;
   try {
-    json = JSON.parse(typeof payload === 'string' ? payload : Buffer.from(payload.buffer, payload.byteOffset, payload.byteLength).toString('utf8'));
+    json = JSON.parse(typeof payload === 'string' ? payload : Buffer.isBuffer(payload) ? payload.toString('utf8') : Buffer.from(payload.buffer, payload.byteOffset, payload.byteLength).toString('utf8'));
   } catch (e) {
     return rejected('FRAME_NOT_JSON', null, `payload is not valid JSON (${(e as Error).message})`);
   }

@@ -22,6 +22,25 @@ const INV_SQRT3 = 1 / Math.sqrt(3);
 export class SequenceScratch {
   readonly seq = new Float64Array(6);
   readonly pair = new Float64Array(2);
+  /** Phase magnitudes of the last set transformed, and its negligible-component floor. */
+  ma = 0;
+  mb = 0;
+  mc = 0;
+  floor = 0;
+}
+
+/** Transforms abc into s.seq and notes the phase magnitudes and the negligible floor. */
+function transform(abc: Float64Array, s: SequenceScratch): void {
+  fortescueInto(abc, s.seq);
+  s.ma = magnitudeAt(abc, 0);
+  s.mb = magnitudeAt(abc, 2);
+  s.mc = magnitudeAt(abc, 4);
+  s.floor = NEGLIGIBLE_COMPONENT_REL * Math.max(s.ma, s.mb, s.mc);
+}
+
+/** u2 (or u0) from the unrounded buffer, except where the component was declared negligible. */
+function factor(num: PhasorOut, pos: PhasorOut, exact: number): number | null {
+  return pos[0] > 0 ? (num[0] === 0 ? 0 : exact) : null;
 }
 
 function component(seq: Float64Array, k: number, floor: number): PhasorOut {
@@ -31,37 +50,30 @@ function component(seq: Float64Array, k: number, floor: number): PhasorOut {
 
 /** Sequence part of a phasor set abc (interleaved rectangular, RMS). */
 export function quantityFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): QuantityResult {
-  fortescueInto(abc, s.seq);
-  const ma = magnitudeAt(abc, 0), mb = magnitudeAt(abc, 2), mc = magnitudeAt(abc, 4);
-  const floor = NEGLIGIBLE_COMPONENT_REL * Math.max(ma, mb, mc);
-  const zero = component(s.seq, 0, floor);
-  const pos = component(s.seq, 1, floor);
-  const neg = component(s.seq, 2, floor);
-  // u2/u0 from the unrounded buffer except where the component was declared negligible.
-  const u2 = pos[0] > 0 ? (neg[0] === 0 ? 0 : u2Percent(s.seq)) : null;
-  const u0 = pos[0] > 0 ? (zero[0] === 0 ? 0 : u0Percent(s.seq)) : null;
-  return { zero, pos, neg, u2, u0, rms: { a: ma, b: mb, c: mc }, thd };
+  transform(abc, s);
+  const zero = component(s.seq, 0, s.floor), pos = component(s.seq, 1, s.floor), neg = component(s.seq, 2, s.floor);
+  return { zero, pos, neg, u2: factor(neg, pos, u2Percent(s.seq)), u0: factor(zero, pos, u0Percent(s.seq)), rms: { a: s.ma, b: s.mb, c: s.mc }, thd };
 }
 
 /** Voltage part from line-to-neutral phasors: adds L-L magnitudes and the NEMA/IEEE rates. */
 export function voltageFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): VoltageResult {
-  const q = quantityFromPhasors(abc, s, thd);
+  transform(abc, s);
+  const zero = component(s.seq, 0, s.floor), pos = component(s.seq, 1, s.floor), neg = component(s.seq, 2, s.floor);
   const ab = hypot2(abc[0]! - abc[2]!, abc[1]! - abc[3]!);
   const bc = hypot2(abc[2]! - abc[4]!, abc[3]! - abc[5]!);
   const ca = hypot2(abc[4]! - abc[0]!, abc[5]! - abc[1]!);
-  const rms = q.rms!;
-  // An explicit literal (not a spread of q): one stable object shape, created once per frame.
+  // One literal with every field: one stable object shape and no intermediate record.
   return {
-    zero: q.zero,
-    pos: q.pos,
-    neg: q.neg,
-    u2: q.u2,
-    u0: q.u0,
-    rms,
-    thd: q.thd,
+    zero,
+    pos,
+    neg,
+    u2: factor(neg, pos, u2Percent(s.seq)),
+    u0: factor(zero, pos, u0Percent(s.seq)),
+    rms: { a: s.ma, b: s.mb, c: s.mc },
+    thd,
     rmsLL: { ab, bc, ca },
     lvur: finiteOrNull(nemaLvurPercent(ab, bc, ca)),
-    pvur: finiteOrNull(ieeePvurPercent(rms.a, rms.b, rms.c)),
+    pvur: finiteOrNull(ieeePvurPercent(s.ma, s.mb, s.mc)),
   };
 }
 
