@@ -17,6 +17,11 @@ interface AlarmQs {
 
 export const alarmsPlugin: FastifyPluginAsync<PluginOptions> = async (app, { ctx }) => {
   app.get<{ Querystring: AlarmQs }>('/api/alarms', {
+    // `?active` on its own (as the API contract writes it) means active=true.
+    preValidation: async (req) => {
+      const q = req.query as Record<string, unknown>;
+      if (q.active === '') q.active = true;
+    },
     schema: {
       summary: 'Active alarms (active=true), or alarm transitions in a range (default last 7 days), oldest first',
       querystring: {

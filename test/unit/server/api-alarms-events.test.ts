@@ -95,3 +95,11 @@ describe('GET /api/events', () => {
     expect(body.error.message).toMatch(/^to:/);
   });
 });
+
+describe('GET /api/alarms?active written as a bare flag', () => {
+  it('treats ?active with no value as active=true, as the API contract writes it', async () => {
+    const res = await app.inject({ method: 'GET', url: '/api/alarms?active' });
+    expect(res.statusCode).toBe(200);
+    expect(res.json().active).toBe(true);
+  });
+});
