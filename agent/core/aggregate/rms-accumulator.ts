@@ -14,110 +14,85 @@
  */
 import type { PhasorOut, QuantityResult, SequenceResult, VoltageResult } from '../result.js';
 
-/** RMS aggregation of one scalar field. */
-class RmsField {
-  private sumSq = 0;
-  private n = 0;
+// Slots of one quantity's running sums, kept in flat typed arrays: an interval's
+// accumulator is two small arrays instead of dozens of small objects, which keeps
+// the per-frame path compact in cache across hundreds of feeders.
+const ZERO = 0, POS = 1, NEG = 2, U2 = 3, U0 = 4, RMS = 5, THD = 8, RMS_LL = 11, LVUR = 14, PVUR = 15;
+const QUANTITY_SLOTS = 11;
+const VOLTAGE_SLOTS = 16;
 
-  add(x: number | null): void {
-    if (x === null || !Number.isFinite(x)) return;
-    this.sumSq += x * x;
-    this.n++;
-  }
-
-  value(): number | null {
-    return this.n > 0 ? Math.sqrt(this.sumSq / this.n) : null;
-  }
-
-  reset(): void {
-    this.sumSq = 0;
-    this.n = 0;
-  }
-}
-
-/** RMS aggregation of a magnitude, last value of the angle. */
-class PhasorField {
-  private readonly mag = new RmsField();
-  private lastAngle: number | null = null;
-  private seen = false;
-
-  add(p: PhasorOut | null): void {
-    if (p === null || !Number.isFinite(p[0])) return;
-    this.mag.add(p[0]);
-    this.lastAngle = p[1];
-    this.seen = true;
-  }
-
-  value(): PhasorOut | null {
-    return this.seen ? [this.mag.value()!, this.lastAngle] : null;
-  }
-
-  reset(): void {
-    this.mag.reset();
-    this.lastAngle = null;
-    this.seen = false;
-  }
-}
-
-class TripleField {
-  private readonly x = new RmsField();
-  private readonly y = new RmsField();
-  private readonly z = new RmsField();
-  private seen = false;
-
-  add(a: number, b: number, c: number): void {
-    this.x.add(a);
-    this.y.add(b);
-    this.z.add(c);
-    this.seen = true;
-  }
-
-  /** [x, y, z] aggregated, or null when no triple was added or a member never had a finite value. */
-  values(): [number, number, number] | null {
-    if (!this.seen) return null;
-    const a = this.x.value(), b = this.y.value(), c = this.z.value();
-    return a === null || b === null || c === null ? null : [a, b, c];
-  }
-
-  reset(): void {
-    this.x.reset();
-    this.y.reset();
-    this.z.reset();
-    this.seen = false;
-  }
-}
-
+/** RMS aggregation of a set of scalar slots; sequence angles keep the last value. */
 class QuantityAccumulator {
-  protected present = false;
-  private readonly zero = new PhasorField();
-  private readonly pos = new PhasorField();
-  private readonly neg = new PhasorField();
-  private readonly u2 = new RmsField();
-  private readonly u0 = new RmsField();
-  private readonly rms = new TripleField();
-  private readonly thd = new TripleField();
+  private present = false;
+  private readonly sumSq: Float64Array;
+  private readonly n: Uint32Array;
+  /** Last angle of zero, pos, neg; NaN stands for "no angle" (magnitude-only input). */
+  private readonly angle = new Float64Array(3);
+
+  constructor(slots: number) {
+    this.sumSq = new Float64Array(slots);
+    this.n = new Uint32Array(slots);
+  }
+
+  protected put(slot: number, x: number | null): void {
+    if (x === null || !Number.isFinite(x)) return;
+    this.sumSq[slot]! += x * x;
+    this.n[slot]!++;
+  }
+
+  private phasor(k: number, p: PhasorOut | null): void {
+    if (p === null || !Number.isFinite(p[0])) return;
+    this.put(k, p[0]);
+    this.angle[k] = p[1] === null ? Number.NaN : p[1];
+  }
 
   addQuantity(q: QuantityResult | null): void {
     if (q === null) return;
     this.present = true;
-    this.zero.add(q.zero);
-    this.pos.add(q.pos);
-    this.neg.add(q.neg);
-    this.u2.add(q.u2);
-    this.u0.add(q.u0);
-    if (q.rms !== null) this.rms.add(q.rms.a, q.rms.b, q.rms.c);
-    if (q.thd !== null) this.thd.add(q.thd.a, q.thd.b, q.thd.c);
+    this.phasor(ZERO, q.zero);
+    this.phasor(POS, q.pos);
+    this.phasor(NEG, q.neg);
+    this.put(U2, q.u2);
+    this.put(U0, q.u0);
+    if (q.rms !== null) {
+      this.put(RMS, q.rms.a);
+      this.put(RMS + 1, q.rms.b);
+      this.put(RMS + 2, q.rms.c);
+    }
+    if (q.thd !== null) {
+      this.put(THD, q.thd.a);
+      this.put(THD + 1, q.thd.b);
+      this.put(THD + 2, q.thd.c);
+    }
+  }
+
+  protected value(slot: number): number | null {
+    const n = this.n[slot]!;
+    return n > 0 ? Math.sqrt(this.sumSq[slot]! / n) : null;
+  }
+
+  private phasorValue(k: number): PhasorOut | null {
+    const m = this.value(k);
+    if (m === null) return null;
+    const a = this.angle[k]!;
+    return [m, Number.isNaN(a) ? null : a];
+  }
+
+  /** [a, b, c] aggregated, or null when a member never had a finite value. */
+  protected triple(slot: number): [number, number, number] | null {
+    const a = this.value(slot), b = this.value(slot + 1), c = this.value(slot + 2);
+    return a === null || b === null || c === null ? null : [a, b, c];
   }
 
   quantity(): QuantityResult | null {
     if (!this.present) return null;
-    const rms = this.rms.values(), thd = this.thd.values();
+    const rms = this.triple(RMS), thd = this.triple(THD);
     return {
-      zero: this.zero.value(),
-      pos: this.pos.value(),
-      neg: this.neg.value(),
-      u2: this.u2.value(),
-      u0: this.u0.value(),
+      zero: this.phasorValue(ZERO),
+      pos: this.phasorValue(POS),
+      neg: this.phasorValue(NEG),
+      u2: this.value(U2),
+      u0: this.value(U0),
       rms: rms === null ? null : { a: rms[0], b: rms[1], c: rms[2] },
       thd: thd === null ? null : { a: thd[0], b: thd[1], c: thd[2] },
     };
@@ -125,33 +100,33 @@ class QuantityAccumulator {
 
   resetQuantity(): void {
     this.present = false;
-    this.zero.reset();
-    this.pos.reset();
-    this.neg.reset();
-    this.u2.reset();
-    this.u0.reset();
-    this.rms.reset();
-    this.thd.reset();
+    this.sumSq.fill(0);
+    this.n.fill(0);
+    this.angle.fill(Number.NaN);
   }
 }
 
 class VoltageAccumulator extends QuantityAccumulator {
-  private readonly rmsLL = new TripleField();
-  private readonly lvur = new RmsField();
-  private readonly pvur = new RmsField();
+  constructor() {
+    super(VOLTAGE_SLOTS);
+  }
 
   add(v: VoltageResult | null): void {
     if (v === null) return;
     this.addQuantity(v);
-    if (v.rmsLL !== null) this.rmsLL.add(v.rmsLL.ab, v.rmsLL.bc, v.rmsLL.ca);
-    this.lvur.add(v.lvur);
-    this.pvur.add(v.pvur);
+    if (v.rmsLL !== null) {
+      this.put(RMS_LL, v.rmsLL.ab);
+      this.put(RMS_LL + 1, v.rmsLL.bc);
+      this.put(RMS_LL + 2, v.rmsLL.ca);
+    }
+    this.put(LVUR, v.lvur);
+    this.put(PVUR, v.pvur);
   }
 
   voltage(): VoltageResult | null {
     const q = this.quantity();
     if (q === null) return null;
-    const ll = this.rmsLL.values();
+    const ll = this.triple(RMS_LL);
     // An explicit literal rather than a spread of q: one stable object shape (spreads are slow in V8's hot paths).
     return {
       zero: q.zero,
@@ -162,23 +137,20 @@ class VoltageAccumulator extends QuantityAccumulator {
       rms: q.rms,
       thd: q.thd,
       rmsLL: ll === null ? null : { ab: ll[0], bc: ll[1], ca: ll[2] },
-      lvur: this.lvur.value(),
-      pvur: this.pvur.value(),
+      lvur: this.value(LVUR),
+      pvur: this.value(PVUR),
     };
   }
 
   reset(): void {
     this.resetQuantity();
-    this.rmsLL.reset();
-    this.lvur.reset();
-    this.pvur.reset();
   }
 }
 
 /** Accumulates SequenceResults of one interval. */
 export class RmsAccumulator {
   private readonly v = new VoltageAccumulator();
-  private readonly i = new QuantityAccumulator();
+  private readonly i = new QuantityAccumulator(QUANTITY_SLOTS);
   private freqSum = 0;
   private freqN = 0;
   /** Values added since the last reset. */
