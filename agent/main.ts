@@ -12,7 +12,7 @@ import type { SeqmonConfig } from './config/types.js';
 import { toPipelineSettings } from './config/load-config.js';
 import type { AlarmTransition, DisturbanceEvent } from './core/detect/types.js';
 import type { PipelineOutput } from './core/pipeline.js';
-import { clearOutput, createOutput, Pipeline } from './core/pipeline.js';
+import { clearOutput } from './core/pipeline.js';
 import type { FrameSink, FrameSource, RawFrame, ResultPublisher, SourceStatus, TrendStore } from './core/ports.js';
 import type { SequenceResult } from './core/result.js';
 import type { Logger } from './logging.js';
@@ -20,6 +20,9 @@ import { loggerFor, RejectionLog } from './logging.js';
 import { LiveHub } from './publish/live-hub.js';
 import { MqttPublisher } from './publish/mqtt-publisher.js';
 import { durationToDays } from './runtime/retention-days.js';
+import type { PipelineHost } from './runtime/pipeline-host.js';
+import { InlinePipelineHost } from './runtime/pipeline-host.js';
+import { PipelineThread, workerAvailable } from './runtime/pipeline-thread.js';
 import type { EmbeddedBroker } from './runtime/embedded-broker.js';
 import { startEmbeddedBroker } from './runtime/embedded-broker.js';
 import type { SeqmonMetrics } from './runtime/metrics.js';
@@ -50,11 +53,16 @@ export interface ServiceOptions {
   readonly dashboardDir?: string | null;
   /** True when the data comes from the fictional demo substation (shown in the UI). */
   readonly demo?: boolean;
+  /**
+   * 'worker' runs the pipeline on a worker thread (MQTT I/O and computation on
+   * two cores); 'inline' on the main thread. Default: worker when the compiled
+   * worker script exists (it does not when running from TypeScript sources).
+   */
+  readonly pipelineThread?: 'worker' | 'inline';
 }
 
 export class SeqmonService {
-  private readonly pipeline: Pipeline;
-  private readonly out: PipelineOutput = createOutput();
+  private readonly pipeline: PipelineHost;
   private readonly live = new LiveHub();
   private readonly metrics: SeqmonMetrics;
   private readonly rejections: RejectionLog;
@@ -80,8 +88,20 @@ export class SeqmonService {
     private readonly logger: Logger,
     private readonly options: ServiceOptions,
   ) {
-    this.pipeline = new Pipeline(toPipelineSettings(config));
     this.metrics = createMetrics();
+    const settings = toPipelineSettings(config);
+    const mode = options.pipelineThread ?? (workerAvailable() ? 'worker' : 'inline');
+    this.pipeline =
+      mode === 'worker'
+        ? new PipelineThread(settings, {
+            onOutput: (o) => this.dispatch(o),
+            onError: (message, stack, origin) => this.internalError(message, stack, origin),
+            onFatal: (err) => this.fatal(err),
+            onLatency: (s) => this.metrics.observeLatency(s),
+          })
+        : new InlinePipelineHost(settings, (o) => this.dispatch(o), (err, raw) => this.internalError(err instanceof Error ? err.message : String(err), err instanceof Error ? (err.stack ?? null) : null, raw?.origin ?? null));
+    this.pipeline.onDrain(() => this.releaseDrain());
+    logger.info({ pipeline: mode }, mode === 'worker' ? 'pipeline runs on a worker thread' : 'pipeline runs on the main thread');
     this.metrics.bindFrameCounts(() => this.pipeline.stats());
     this.metrics.bindSources(() => this.sourceStatuses());
     this.metrics.bindStore(() => this.store.health());
@@ -229,17 +249,8 @@ export class SeqmonService {
   private sink(): FrameSink {
     return {
       push: (raw: RawFrame): boolean => {
-        const t0 = process.hrtime.bigint();
-        try {
-          this.pipeline.ingest(raw, this.out);
-        } catch (err) {
-          // A defect in processing one frame must not take the service down: log it with where the frame came from and go on.
-          this.logger.error({ err, origin: raw.origin, feeder: raw.feeder ?? null }, 'internal error while processing a frame; frame dropped');
-          this.metrics.frameRejected(raw.feeder ?? '(unknown)', 'INTERNAL');
-        }
-        this.dispatch();
-        this.metrics.observeLatency(Number(process.hrtime.bigint() - t0) / 1e9);
-        return this.storeBacklog < STORE_BACKLOG_LIMIT;
+        const accepted = this.pipeline.ingest(raw);
+        return accepted && this.storeBacklog < STORE_BACKLOG_LIMIT;
       },
       onDrain: (listener) => {
         this.drainListeners.push(listener);
@@ -248,18 +259,26 @@ export class SeqmonService {
   }
 
   private tick(): void {
-    try {
-      this.pipeline.tick(Date.now(), this.out);
-    } catch (err) {
-      this.logger.error({ err }, 'internal error in the periodic tick');
-    }
-    this.dispatch();
+    this.pipeline.tick(Date.now());
     this.rejections.tick();
   }
 
+  /** A defect in processing one frame must not take the service down: log it with where the frame came from and go on. */
+  private internalError(message: string, stack: string | null, origin: string | null): void {
+    this.logger.error({ origin, stack }, `internal error while processing a frame; frame dropped: ${message}`);
+    this.metrics.frameRejected('(unknown)', 'INTERNAL');
+  }
+
+  /** The pipeline worker died: nothing can be computed any more, so stop and let the supervisor restart the service. */
+  private fatal(err: Error): void {
+    this.logger.fatal({ err }, 'the pipeline worker stopped; seqmon exits so that its supervisor restarts it');
+    this.destroy(err);
+    process.exitCode = 1;
+    setImmediate(() => process.exit(1));
+  }
+
   /** Sends what the pipeline produced to the live hub, the publisher and the store. */
-  private dispatch(): void {
-    const o = this.out;
+  private dispatch(o: PipelineOutput): void {
     for (const r of o.results) {
       this.live.publishResult(r);
       this.noteTs(r);
@@ -329,9 +348,9 @@ export class SeqmonService {
     });
   }
 
+  /** Sources register once and are told every time they may read again. */
   private releaseDrain(): void {
-    const listeners = this.drainListeners.splice(0);
-    for (const l of listeners) l();
+    for (const l of this.drainListeners) l();
   }
 
   private onSourceState(s: SourceStatus): void {
@@ -386,7 +405,7 @@ export class SeqmonService {
     };
     if (this.simulator !== null) await step('simulator', () => this.simulator!.close());
     for (const s of [...this.sources].reverse()) await step(`source ${s.name}`, () => s.close());
-    this.dispatch();
+    await step('pipeline', () => this.pipeline.close());
     this.flushStore();
     await step('store writes', () => this.storeChain);
     this.rejections.flush();
@@ -404,6 +423,7 @@ export class SeqmonService {
     if (this.flushTimer !== null) clearInterval(this.flushTimer);
     this.simulator?.destroy(err);
     for (const s of this.sources) s.destroy(err);
+    this.pipeline.destroy();
     this.store.destroy(err);
     this.live.destroy();
     void this.http?.close();
