@@ -64,7 +64,8 @@ export class PipelineThread implements PipelineHost {
     private readonly settings: PipelineSettings,
     private readonly callbacks: PipelineThreadCallbacks,
   ) {
-    this.worker = new Worker(WORKER_URL, { workerData: { settings } });
+    // A modest young generation keeps the worker's resident memory near the main thread's; larger buys no throughput here.
+    this.worker = new Worker(WORKER_URL, { workerData: { settings }, resourceLimits: { maxYoungGenerationSizeMb: 16 } });
     this.worker.on('message', (m: WorkerMessage) => this.onMessage(m));
     this.worker.on('error', (err) => {
       if (!this.stopped) callbacks.onFatal(err);
