@@ -1,8 +1,8 @@
 // Live ingest throughput: phasor frames per second from an MQTT publisher,
 // through a real local mosquitto, into pipeline results (MqttSource ->
 // the pipeline on its worker thread, as the compiled service runs it), against a bare mqtt.js subscriber that only JSON.parses
-// the same messages, measured in the same run. Targets: agent/bare >= 0.8, and
-// the agent side's resident memory with 200 feeders below 200 MB.
+// the same messages, measured in the same run. Target: agent/bare >= 0.8. (The
+// service's memory with 200 feeders is measured by service-memory.mjs.)
 //
 // Method: each consumer first registers a persistent session (clean: false,
 // QoS 1) and disconnects; the publisher then sends every frame, which the
@@ -63,9 +63,10 @@ export async function run() {
         'target ratio met': ratio >= 0.8 ? 'yes' : 'no',
         'MqttSource alone, frames handed to a counting sink (frames/s)': bestSource,
         'ratio MqttSource alone / bare (the adapter\'s own share)': bestSource / bestBare,
-        'resident memory of the agent side, MB (target < 200)': rssAgent / 2 ** 20,
+        // The service's own memory with 200 feeders is measured in its own process by service-memory.mjs;
+        // this process also holds the bare subscriber, the payloads and every earlier benchmark of the run.
+        'resident memory of this whole benchmark process, MB (not the service: see service-memory)': rssAgent / 2 ** 20,
         'resident memory before the first agent trial, MB': rssBefore / 2 ** 20,
-        'target memory met': rssAgent < 200 * 2 ** 20 ? 'yes' : 'no',
       },
     };
   } finally {
