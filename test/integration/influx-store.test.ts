@@ -121,6 +121,12 @@ describe.skipIf(!hasInfluxd)('InfluxDB store against a real influxd', () => {
     await s.writeResults([fullResult('F1', '3s', t)]);
     const res = await fetch(`${server!.url}/query?q=${encodeURIComponent(`DROP DATABASE "${db}"`)}`, { method: 'POST' });
     expect(res.status).toBe(200);
+    // The drop finishes inside influxd after it answers: wait until the database is really gone before writing,
+    // or the write can land in a shard that is deleted a moment later.
+    await waitFor(async () => {
+      const list = (await (await fetch(`${server!.url}/query?q=${encodeURIComponent('SHOW DATABASES')}`)).json()) as { results: { series?: { values?: string[][] }[] }[] };
+      return !(list.results[0]?.series?.[0]?.values ?? []).some((v) => v[0] === db);
+    }, 5_000, 10);
     await s.writeResults([fullResult('F1', '3s', t + 3000)]);
     await waitFor(() => s.health().queued === 0, 5_000, 10);
     expect((await s.queryTrend('F1', '3s', { from: t, to: t + DAY })).map((r) => r.ts)).toEqual([t + 3000]);
