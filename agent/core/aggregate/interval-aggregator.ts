@@ -86,6 +86,7 @@ class OpenInterval {
 
   begin(mode: ThreeSecondMode, start: number, end: number): void {
     this.acc.reset();
+    this.values = 0;
     this.open = true;
     this.mode = mode;
     this.start = start;
@@ -93,18 +94,27 @@ class OpenInterval {
     this.holeFound = false;
   }
 
-  add(r: SequenceResult, maxGapMs: number): void {
-    if (this.acc.count === 0) {
+  /** Values noted since begin() (the accumulator may receive them later, merged from a shorter interval). */
+  values = 0;
+
+  /** Coverage bookkeeping for one value: first/last times and holes. */
+  note(r: SequenceResult, maxGapMs: number): void {
+    if (this.values === 0) {
       this.firstTs = r.ts;
       this.firstKind = r.window;
     } else if (r.ts - this.lastEnd > holeAllowance(r.window, maxGapMs)) {
       this.holeFound = true;
     }
-    this.acc.add(r);
+    this.values++;
     const end = r.ts + r.durationMs;
-    if (end > this.lastEnd || this.acc.count === 1) this.lastEnd = end;
+    if (end > this.lastEnd || this.values === 1) this.lastEnd = end;
     this.lastDuration = r.durationMs;
     this.lastKind = r.window;
+  }
+
+  add(r: SequenceResult, maxGapMs: number): void {
+    this.note(r, maxGapMs);
+    this.acc.add(r);
   }
 
   /** Whether data are missing at the start or end of a clock interval. */
@@ -166,6 +176,12 @@ export class IntervalAggregator {
     if (this.ten.open && atOrAfter(r.ts, this.ten.end)) this.closeTen(emit);
     if (this.two.open && atOrAfter(r.ts, this.two.end)) this.closeTwo(emit);
 
+    // The 10-min interval opens first: a 3-s interval closing below merges into it.
+    if (!this.ten.open) {
+      const s = tickStart(r.ts, TEN_MINUTES_MS);
+      this.ten.begin('clock', s, s + TEN_MINUTES_MS);
+    }
+    this.ten.note(r, this.maxGapMs);
     const mode: ThreeSecondMode = r.window === 'basic' ? 'basic-count' : 'clock';
     if (!three.open) {
       if (mode === 'clock') {
@@ -176,15 +192,15 @@ export class IntervalAggregator {
       }
     }
     // A 3-s interval holds one kind of input; a value of the other kind still counts in 10 min and 2 h.
+    // 3-s intervals nest in 10-min ones (3 s divides 10 min; basic-window groups are cut at the tick), so
+    // the 10-min sums are the 3-s sums merged when each 3-s interval closes: exact, and one merge per 3 s
+    // instead of a second accumulation per value.
     if (three.mode === mode && atOrAfter(r.ts, three.start)) {
       three.add(r, this.maxGapMs);
       if (mode === 'basic-count' && three.acc.count >= BASIC_WINDOWS_PER_3S) this.closeThree(emit);
+    } else {
+      this.ten.acc.add(r);
     }
-    if (!this.ten.open) {
-      const s = tickStart(r.ts, TEN_MINUTES_MS);
-      this.ten.begin('clock', s, s + TEN_MINUTES_MS);
-    }
-    this.ten.add(r, this.maxGapMs);
   }
 
   /** Closes every interval that ended at or before `ts` (data time, e.g. when the input went quiet). */
@@ -208,6 +224,7 @@ export class IntervalAggregator {
   private closeThree(emit: Emit): void {
     const t = this.three;
     t.open = false;
+    if (this.ten.open) this.ten.acc.merge(t.acc);
     if (t.mode === 'clock') {
       const missing = t.holeFound || t.clockEdgesMissing(this.maxGapMs);
       this.watermark = Math.max(this.watermark, t.end);

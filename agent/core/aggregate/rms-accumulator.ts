@@ -98,6 +98,18 @@ class QuantityAccumulator {
     };
   }
 
+  /** Adds everything `o` accumulated, as if its values had been added here (sums and counts add exactly). */
+  mergeQuantity(o: QuantityAccumulator): void {
+    if (!o.present) return;
+    this.present = true;
+    for (let k = 0; k < this.sumSq.length; k++) {
+      this.sumSq[k]! += o.sumSq[k]!;
+      this.n[k]! += o.n[k]!;
+    }
+    // `o` holds later values: its angles are the newer ones.
+    for (let k = 0; k < 3; k++) if (o.n[k]! > 0) this.angle[k] = o.angle[k]!;
+  }
+
   resetQuantity(): void {
     this.present = false;
     this.sumSq.fill(0);
@@ -157,6 +169,16 @@ export class RmsAccumulator {
   count = 0;
   /** Any added value was flagged (IEC 61000-4-30 §4.7). */
   flagged = false;
+
+  /** Adds an interval's accumulated values (which follow everything added here so far). */
+  merge(o: RmsAccumulator): void {
+    this.v.mergeQuantity(o.v);
+    this.i.mergeQuantity(o.i);
+    this.freqSum += o.freqSum;
+    this.freqN += o.freqN;
+    this.count += o.count;
+    if (o.flagged) this.flagged = true;
+  }
 
   add(r: SequenceResult): void {
     this.v.add(r.v);

@@ -273,3 +273,31 @@ describe('emission', () => {
     expect(agg.ignored).toBe(2);
   });
 });
+
+describe('10-min values over uneven 3-s intervals', () => {
+  test('equal the RMS of every value in the 10 minutes, however unevenly the values fall into 3-s intervals and whatever is null (IEC 61000-4-30 §4.5, checked with mathjs)', () => {
+    const agg = new IntervalAggregator({ feeder: 'F1', nominalHz: 50 });
+    const c = collector();
+    const u2s: number[] = [];
+    const freqs: number[] = [];
+    let ts = T0;
+    let k = 0;
+    // Irregular spacing (50..950 ms) so 3-s intervals hold different counts; every 7th u2 missing.
+    while (ts < T0 + TEN_MINUTES_MS) {
+      const u2 = k % 7 === 3 ? null : 0.5 + ((k * 37) % 100) / 40;
+      const freq = 49.9 + ((k * 13) % 20) / 100;
+      agg.push(value({ ts, u2, freq }), c.emit);
+      if (u2 !== null) u2s.push(u2);
+      freqs.push(freq);
+      ts += 50 + ((k * 181) % 901);
+      k++;
+    }
+    agg.push(value({ ts: T0 + TEN_MINUTES_MS + 100 }), c.emit);
+    const [ten] = c.of('10min');
+    expect(ten!.count).toBe(k);
+    expect(ten!.v!.u2!).toBeCloseTo(sqrt(mean(u2s.map((u) => u * u))) as number, 12);
+    expect(ten!.freq!).toBeCloseTo(mean(freqs) as number, 12);
+    // The 10-min value is the merge of its 3-s values: their counts add up to it.
+    expect(c.of('3s').filter((a) => a.ts < T0 + TEN_MINUTES_MS).reduce((n, a) => n + a.count, 0)).toBe(k);
+  });
+});
