@@ -21,10 +21,12 @@
  * re-set before every attempt to an exponential, jittered back-off.
  */
 import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
+import { ExponentialBackoff } from '../core/backoff.js';
+import { alarmToWire, eventToWire } from '../core/detect/wire.js';
 import type { AlarmTransition, DisturbanceEvent } from '../core/detect/types.js';
 import { AgentError } from '../core/errors.js';
 import type { ResultPublisher } from '../core/ports.js';
-import { isoTime, resultToWire, roundForWire, type SequenceResult } from '../core/result.js';
+import { resultToWire, type SequenceResult } from '../core/result.js';
 
 export const DEFAULT_OUTPUT_PREFIX = 'seqmon/out';
 
@@ -89,20 +91,13 @@ export interface MqttPublisherCounters {
   errors: number;
 }
 
-import { alarmToWire, eventToWire } from '../core/detect/wire.js';
-
+/** The exact payloads of `<out>/<feeder>/alarm/<condition>` and `<out>/<feeder>/event` (shared with the API). */
 export { alarmToWire, eventToWire };
 
 const SILENT: PublisherLogger = { info: () => undefined, warn: () => undefined, error: () => undefined, debug: () => undefined };
 const DEFAULT_RECONNECT = { minMs: 500, maxMs: 30_000 };
 const DEFAULT_MAX_QUEUED = 10_000;
 const DEFAULT_CLOSE_TIMEOUT_MS = 5_000;
-// See agent/sources/mqtt/backoff.ts for the reasoning; adapters do not import each other, so the
-// three lines of the formula live here too: delay in [cap/2, cap], cap = min(max, min * 2^n).
-function backoffDelay(attempt: number, minMs: number, maxMs: number, random: () => number): number {
-  const cap = Math.min(maxMs, minMs * 2 ** Math.min(attempt, 40));
-  return Math.round(cap / 2 + (random() * cap) / 2);
-}
 
 interface FeederTopics {
   readonly sequence: string;
@@ -183,8 +178,12 @@ export class MqttPublisher implements ResultPublisher {
       connectTimeout: c.connectTimeoutMs ?? 10_000,
       clean: true,
       queueQoSZero: true,
-      reconnectPeriod: backoffDelay(0, reconnect.minMs, reconnect.maxMs, random),
+      reconnectPeriod: 0,
     };
+    // The same back-off as the source (agent/core/backoff.ts): the first delay now, the rest per retry.
+    const backoff = new ExponentialBackoff(reconnect, random);
+    options.reconnectPeriod = backoff.next();
+    backoff.reset();
     if (c.username !== undefined) options.username = c.username;
     if (c.password !== undefined) options.password = c.password;
     if (c.tls !== undefined) {
@@ -194,7 +193,6 @@ export class MqttPublisher implements ResultPublisher {
       options.rejectUnauthorized = c.tls.rejectUnauthorized ?? true;
     }
     const client = mqtt.connect(c.url, options);
-    let attempt = 0;
     let connectedAt: number | null = null;
     client.on('connect', () => {
       connectedAt = Date.now();
@@ -206,9 +204,8 @@ export class MqttPublisher implements ResultPublisher {
       const stable = connectedAt !== null && Date.now() - connectedAt >= 2 * reconnect.maxMs;
       if (connectedAt !== null) this.logger.warn({ publisher: 'mqtt' }, 'mqtt publisher: connection lost; queueing until it is back');
       connectedAt = null;
-      if (stable) attempt = 0;
-      client.options.reconnectPeriod = backoffDelay(attempt, reconnect.minMs, reconnect.maxMs, random);
-      if (reconnect.minMs * 2 ** attempt < reconnect.maxMs) attempt++;
+      if (stable) backoff.reset();
+      client.options.reconnectPeriod = backoff.next();
     });
     client.on('error', (err) => this.logger.debug({ publisher: 'mqtt', err: err.message }, `mqtt publisher: ${err.message}`));
     return client;

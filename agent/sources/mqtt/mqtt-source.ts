@@ -23,7 +23,7 @@
 import mqtt, { type IClientOptions, type IConnackPacket, type IPublishPacket, type MqttClient } from 'mqtt';
 import { AgentError } from '../../core/errors.js';
 import type { FrameSink, FrameSource, RawFrame, SourceState, SourceStatus, TimerHandle } from '../../core/ports.js';
-import { ExponentialBackoff } from './backoff.js';
+import { ExponentialBackoff } from '../../core/backoff.js';
 import { redactUrl, resolveSourceOptions, type MqttSourceOptions, type MqttSourceSettings } from './options.js';
 import { inputFilters, parseInputTopic } from './topics.js';
 

@@ -8,7 +8,7 @@ import { readFileSync } from 'node:fs';
 import { AgentError } from '../../core/errors.js';
 import { DEFAULT_FRAME_LIMITS } from '../../core/frames.js';
 import type { Scheduler, SourceStatus } from '../../core/ports.js';
-import type { BackoffSettings } from './backoff.js';
+import type { BackoffSettings } from '../../core/backoff.js';
 import { SILENT_LOGGER, type SourceLogger } from './logger.js';
 import { SYSTEM_SCHEDULER } from './system-scheduler.js';
 import { DEFAULT_INPUT_PREFIX, prefixProblem } from './topics.js';

@@ -4,7 +4,7 @@
  * And Jitter", 2015, from memory). The random source is pinned so each bound is exact.
  */
 import { describe, expect, test } from 'vitest';
-import { ExponentialBackoff } from '../../../agent/sources/mqtt/backoff.js';
+import { ExponentialBackoff } from '../../../agent/core/backoff.js';
 
 function delays(random: number, n: number, minMs = 100, maxMs = 1_000): number[] {
   const b = new ExponentialBackoff({ minMs, maxMs }, () => random);

@@ -7,6 +7,7 @@
  * load and the random half decorrelates agents that lost the broker at the
  * same moment, while the lower bound of cap/2 keeps the delays growing (AWS
  * Architecture Blog, "Exponential Backoff And Jitter", 2015; common practice).
+ * Pure: the caller owns the timers; shared by every adapter that reconnects.
  */
 export interface BackoffSettings {
   /** Delay cap of the first attempt, ms (> 0). */
@@ -21,8 +22,8 @@ export class ExponentialBackoff {
 
   constructor(
     private readonly settings: BackoffSettings,
-    /** Uniform random in [0, 1); injected so tests can pin the jitter. */
-    private readonly random: () => number = Math.random,
+    /** Uniform random in [0, 1); adapters pass Math.random, tests pin the jitter. */
+    private readonly random: () => number,
   ) {}
 
   /** Delay before the next attempt, ms; each call moves one attempt on. */
