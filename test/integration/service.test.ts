@@ -10,6 +10,7 @@ import { join } from 'node:path';
 import mqtt from 'mqtt';
 import { afterEach, describe, expect, it } from 'vitest';
 import { parseConfigText } from '../../agent/config/load-config.js';
+import type { SeqmonConfig } from '../../agent/config/types.js';
 import { SeqmonService } from '../../agent/main.js';
 import { createLogger } from '../../agent/logging.js';
 import { freePort, waitFor } from '../helpers/free-port.js';
@@ -49,14 +50,20 @@ function frame(ts: number): string {
   });
 }
 
-describe.skipIf(!mosquittoAvailable())('the service against a real broker', () => {
-  it('publishes 3-s sequence results, raises a retained voltage-unbalance alarm, and serves the trend over HTTP', async () => {
-    const broker = await Mosquitto.start();
-    td.add(() => broker.stop());
-    const dir = mkdtempSync(join(tmpdir(), 'seqmon-service-'));
-    td.add(() => rmSync(dir, { recursive: true, force: true }));
-    const httpPort = await freePort();
-    const yaml = `
+interface Setup {
+  broker: Mosquitto;
+  httpPort: number;
+  config: SeqmonConfig;
+}
+
+/** A real broker, a temporary data folder and a configuration with a 3-s voltage-unbalance pickup, all torn down after the test. */
+async function setup(): Promise<Setup> {
+  const broker = await Mosquitto.start();
+  td.add(() => broker.stop());
+  const dir = mkdtempSync(join(tmpdir(), 'seqmon-service-'));
+  td.add(() => rmSync(dir, { recursive: true, force: true }));
+  const httpPort = await freePort();
+  const yaml = `
 dataDir: ${dir}
 mqtt: { url: "${broker.url}" }
 http: { port: ${httpPort} }
@@ -68,7 +75,12 @@ feeders:
     detection:
       voltageUnbalance: { warning: 2, alarm: 3, pickupMs: 3000, dropoutMs: 3000 }
 `;
-    const config = parseConfigText(yaml, null, {}, dir);
+  return { broker, httpPort, config: parseConfigText(yaml, null, {}, dir) };
+}
+
+describe.skipIf(!mosquittoAvailable())('the service against a real broker', () => {
+  it('publishes 3-s sequence results, raises a retained voltage-unbalance alarm, and serves the trend over HTTP', async () => {
+    const { broker, httpPort, config } = await setup();
     const service = await SeqmonService.start(config, { logger: createLogger({ level: 'silent' }), dashboardDir: null });
     td.add(() => service.close());
 
@@ -113,23 +125,7 @@ feeders:
 
 describe.skipIf(!mosquittoAvailable())('alarms across a restart', () => {
   it('restores a raised alarm from the store after a restart and does not announce it again', async () => {
-    const broker = await Mosquitto.start();
-    td.add(() => broker.stop());
-    const dir = mkdtempSync(join(tmpdir(), 'seqmon-restart-'));
-    td.add(() => rmSync(dir, { recursive: true, force: true }));
-    const httpPort = await freePort();
-    const yaml = `
-dataDir: ${dir}
-mqtt: { url: "${broker.url}" }
-http: { port: ${httpPort} }
-feeders:
-  discover: true
-  defaults:
-    nominalVoltageLN: 7200
-    detection:
-      voltageUnbalance: { warning: 2, alarm: 3, pickupMs: 3000, dropoutMs: 3000 }
-`;
-    const config = parseConfigText(yaml, null, {}, dir);
+    const { broker, httpPort, config } = await setup();
     const logger = createLogger({ level: 'silent' });
     const out = await subscriber(broker.url, 'seqmon/out/+/alarm/#');
     td.add(() => out.client.endAsync());
