@@ -176,7 +176,15 @@ export class PipelineThread implements PipelineHost {
     offsets[batch.length] = at;
     const id = this.nextId++;
     this.sentAt.set(id, performance.now());
-    this.post({ t: 'frames', id, count: batch.length, bytes, offsets, feeders, kinds, origins, objects }, [bytes]);
+    try {
+      this.post({ t: 'frames', id, count: batch.length, bytes, offsets, feeders, kinds, origins, objects }, [bytes]);
+    } catch (err) {
+      // Only a payload object that cannot be copied between threads gets here (a source bug, never wire JSON):
+      // drop the batch with a logged reason rather than crash, and release its place in the bound.
+      this.sentAt.delete(id);
+      this.inFlight -= batch.length;
+      this.callbacks.onError(`a batch of ${batch.length} frames could not be handed to the pipeline worker and was dropped: ${err instanceof Error ? err.message : String(err)}`, null, batch[0]!.origin);
+    }
   }
 
   private onMessage(m: WorkerMessage): void {

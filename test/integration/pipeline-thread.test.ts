@@ -105,3 +105,18 @@ describe('pipeline on a worker thread', () => {
     expect(thread.stats().accepted.F1).toBe(25_000);
   });
 });
+
+describe('pipeline on a worker thread with a payload that cannot cross threads', () => {
+  it('drops that batch with a named reason and keeps processing the frames after it', async () => {
+    const { PipelineThread } = await threadModule();
+    const errors: string[] = [];
+    const thread = new PipelineThread(SETTINGS, { onOutput: () => undefined, onError: (m) => errors.push(m), onFatal: () => undefined });
+    thread.ingest({ feeder: 'F1', kind: 'phasor', payload: { ts: T0, v: () => 1 } as unknown as Record<string, unknown>, origin: 'broken-source' });
+    await new Promise((r) => setImmediate(r));
+    thread.ingest({ feeder: 'F1', kind: 'phasor', payload: payload(T0 + 100), origin: 'test' });
+    await thread.close();
+    expect(errors).toHaveLength(1);
+    expect(errors[0]).toMatch(/could not be handed to the pipeline worker/);
+    expect(thread.stats().accepted).toEqual({ F1: 1 });
+  });
+});
