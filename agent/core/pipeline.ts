@@ -92,7 +92,8 @@ const DEFAULT_MAX_FEEDERS = 2000;
  */
 const IDLE_CLOSE_MS = 6_000;
 
-// IEC 61000-4-30 §5.4/§5.5 thresholds, as a fraction of the declared input voltage.
+// IEC 61000-4-30 §5.4/§5.5 thresholds, as a fraction of the declared input voltage (from memory; the
+// usual 90 % dip, 110 % swell and 5 % interruption thresholds, shared CHECKS §3).
 const DIP_THRESHOLD = 0.9;
 const SWELL_THRESHOLD = 1.1;
 const INTERRUPTION_THRESHOLD = 0.05;
@@ -233,7 +234,7 @@ class FeederProcessor {
     let i: QuantityResult | null = null;
     if (w.v !== null) {
       v = voltageFromPhasors(w.v, this.scratch, triple(w.vThd));
-      // Per-phase RMS of sampled input is the true RMS (IEC 61000-4-30 §5.2), not the fundamental.
+      // Per-phase RMS of sampled input is the true RMS (IEC 61000-4-30 §5.2, from memory), not the fundamental.
       if (w.vRms !== null) v.rms = triple(w.vRms);
     }
     if (w.i !== null) {
@@ -249,7 +250,7 @@ class FeederProcessor {
 
   /**
    * Flags a frame whose phase voltages show a dip, swell or interruption
-   * against the declared voltage (IEC 61000-4-30 §4.7 flagging concept), so
+   * against the declared voltage (IEC 61000-4-30 §4.7 flagging concept, from memory), so
    * aggregates that include it are marked.
    */
   private voltageFlag(v: VoltageResult | null): boolean {

@@ -55,7 +55,7 @@ export interface SequenceResult {
   /** Length of the interval in ms (0 for a single phasor/rms frame). */
   durationMs: number;
   freq: number | null;
-  /** IEC 61000-4-30 §4.7 flag: the interval contains a dip, swell, interruption, or a gap in the data. */
+  /** IEC 61000-4-30 §4.7 flag (clause from memory): the interval contains a dip, swell, interruption, or a gap in the data. */
   flagged: boolean;
   v: VoltageResult | null;
   i: QuantityResult | null;

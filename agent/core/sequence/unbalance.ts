@@ -6,7 +6,7 @@
 
 /**
  * IEC negative-sequence unbalance factor u2 = 100·|X2|/|X1| in percent
- * (IEC 61000-4-30 §5.7; IEC TR 61000-3-13 definitions). `seq` is the
+ * (IEC TR 61000-3-13 definitions, published; IEC 61000-4-30 §5.7, clause from memory). `seq` is the
  * interleaved output of fortescueInto. NaN when |X1| is zero.
  */
 export function u2Percent(seq: Float64Array): number {
@@ -17,7 +17,7 @@ export function u2Percent(seq: Float64Array): number {
   return 100 * Math.sqrt((seq[4]! * seq[4]! + seq[5]! * seq[5]!) / p2);
 }
 
-/** Zero-sequence unbalance factor u0 = 100·|X0|/|X1| in percent (IEC 61000-4-30 §5.7). NaN when |X1| is zero. */
+/** Zero-sequence unbalance factor u0 = 100·|X0|/|X1| in percent (IEC 61000-4-30 §5.7, from memory). NaN when |X1| is zero. */
 export function u0Percent(seq: Float64Array): number {
   const p2 = seq[2]! * seq[2]! + seq[3]! * seq[3]!;
   if (!(p2 > 0)) return Number.NaN;
@@ -26,7 +26,8 @@ export function u0Percent(seq: Float64Array): number {
 
 /**
  * β = (Uab⁴ + Ubc⁴ + Uca⁴) / (Uab² + Ubc² + Uca²)², 1/3 ≤ β ≤ 1/2 for any
- * closed triangle (IEC 61000-4-30 §5.7.1).
+ * closed triangle (IEC 61000-4-30 §5.7.1, clause from memory; the range is
+ * computed, and the formula is verified against Fortescue in the tests).
  */
 export function betaFromLineMagnitudes(uab: number, ubc: number, uca: number): number {
   const a2 = uab * uab, b2 = ubc * ubc, c2 = uca * uca;
@@ -36,7 +37,8 @@ export function betaFromLineMagnitudes(uab: number, ubc: number, uca: number): n
 
 /**
  * u2 in percent from the three line-to-line RMS magnitudes alone, the exact
- * formula of IEC 61000-4-30 §5.7.1: u2 = √((1 − √(3 − 6β)) / (1 + √(3 − 6β))).
+ * formula of IEC 61000-4-30 §5.7.1 (from memory; verified exact against the
+ * full Fortescue computation in test/unit/sequence): u2 = √((1 − √(3 − 6β)) / (1 + √(3 − 6β))).
  * It equals the Fortescue |V2|/|V1| for any set of three phasors that sum to
  * zero (line-to-line voltages always do; so do the currents of a three-wire
  * feeder). Returns NaN if the magnitudes cannot form a triangle (one side
@@ -74,7 +76,7 @@ export function sequenceMagnitudesFromZeroSumInto(m1: number, m2: number, m3: nu
 }
 
 /**
- * NEMA MG-1 (§14.36) "line voltage unbalance rate", LVUR: largest deviation of
+ * NEMA MG-1 (§14.36, clause from memory; definition published in Pillay & Manyage 2001, eq. 1) "line voltage unbalance rate", LVUR: largest deviation of
  * a line-to-line RMS magnitude from their average, in percent of the average.
  * Not the same quantity as u2 (it ignores angles).
  */
