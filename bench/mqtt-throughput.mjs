@@ -273,7 +273,8 @@ export async function startBroker() {
   };
 }
 
-function freePort() {
+/** A TCP port that was free on 127.0.0.1 a moment ago (also used by service-memory.mjs). */
+export function freePort() {
   return new Promise((resolve, reject) => {
     const srv = createServer();
     srv.on('error', reject);

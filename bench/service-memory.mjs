@@ -5,11 +5,10 @@
 // baseline in the same run is the same process idle with no feeders.
 import { spawn } from 'node:child_process';
 import { existsSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { createServer } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join, resolve } from 'node:path';
 import mqtt from 'mqtt';
-import { startBroker } from './mqtt-throughput.mjs';
+import { freePort, startBroker } from './mqtt-throughput.mjs';
 
 const FEEDERS = 200;
 const RATE_HZ = 10;
@@ -88,14 +87,3 @@ async function waitHttp(port) {
 }
 
 const sleep = (ms) => new Promise((r) => setTimeout(r, ms));
-
-function freePort() {
-  return new Promise((resolvePort, reject) => {
-    const srv = createServer();
-    srv.on('error', reject);
-    srv.listen(0, '127.0.0.1', () => {
-      const { port } = srv.address();
-      srv.close(() => resolvePort(port));
-    });
-  });
-}
