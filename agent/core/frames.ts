@@ -123,6 +123,22 @@ export interface ValidateOptions {
   /** Frame kind from the topic; otherwise taken from "kind" or inferred. */
   readonly kind?: FrameKind | undefined;
   readonly limits?: FrameLimits | undefined;
+  /**
+   * Buffers that the phasor sets of a phasor frame are written into instead of
+   * new arrays. The frame's `v` and `i` are then valid only until the next call
+   * given the same scratch: for a caller that consumes each frame at once.
+   */
+  readonly scratch?: PhasorScratch | undefined;
+}
+
+/** Two reusable 6-element buffers, for ValidateOptions.scratch. */
+export interface PhasorScratch {
+  readonly v: Float64Array;
+  readonly i: Float64Array;
+}
+
+export function createPhasorScratch(): PhasorScratch {
+  return { v: new Float64Array(6), i: new Float64Array(6) };
 }
 
 /** Validates a raw payload (Buffer/string) including the size check before parsing. */
@@ -179,8 +195,9 @@ function toFrame(json: unknown, options: ValidateOptions): Frame {
   switch (kind) {
     case 'phasor': {
       const freq = optionalFreq(o.freq, limits);
-      const v = o.v === undefined ? null : phasorSet(o.v, 'v');
-      const i = o.i === undefined ? null : phasorSet(o.i, 'i');
+      const scratch = options.scratch;
+      const v = o.v === undefined ? null : phasorSet(o.v, 'v', scratch === undefined ? new Float64Array(6) : scratch.v);
+      const i = o.i === undefined ? null : phasorSet(o.i, 'i', scratch === undefined ? new Float64Array(6) : scratch.i);
       if (v === null && i === null) fail('FRAME_MISSING_FIELD', 'v', 'a phasor frame needs "v" (and optionally "i") with phases a, b, c');
       return { kind, feeder, ts, freq, v, i };
     }
@@ -245,33 +262,37 @@ function objectField(value: unknown, field: string): Record<string, unknown> {
   return value as Record<string, unknown>;
 }
 
-function phasorSet(value: unknown, field: string): Float64Array {
+const PHASES = ['a', 'b', 'c'] as const;
+
+/** Writes the three [magnitude, angle] pairs of `value` into `out` as rectangular values. */
+function phasorSet(value: unknown, field: string, out: Float64Array): Float64Array {
   const o = objectField(value, field);
-  const out = new Float64Array(6);
-  const phases = ['a', 'b', 'c'] as const;
   for (let k = 0; k < 3; k++) {
-    const name = `${field}.${phases[k]}`;
-    const p = o[phases[k]!];
-    if (p === undefined || p === null) fail('FRAME_MISSING_FIELD', name, `${name} is missing`);
-    if (!Array.isArray(p) || p.length !== 2) fail('FRAME_BAD_VALUE', name, `${name} must be [magnitude, angleDegrees], found ${typeName(p)}`);
+    const p = o[PHASES[k]!];
+    // The field name is built only on failure: this loop runs for every frame.
+    if (p === undefined || p === null) fail('FRAME_MISSING_FIELD', phaseName(field, k), `${phaseName(field, k)} is missing`);
+    if (!Array.isArray(p) || p.length !== 2) fail('FRAME_BAD_VALUE', phaseName(field, k), `${phaseName(field, k)} must be [magnitude, angleDegrees], found ${typeName(p)}`);
     const mag = p[0] as unknown, ang = p[1] as unknown;
-    if (typeof mag !== 'number' || !Number.isFinite(mag)) fail('FRAME_BAD_VALUE', `${name}[0]`, `${name} magnitude must be a finite number, found ${typeName(mag)}`);
-    if (mag < 0) fail('FRAME_BAD_VALUE', `${name}[0]`, `${name} magnitude must not be negative, found ${mag}`);
-    if (typeof ang !== 'number' || !Number.isFinite(ang)) fail('FRAME_BAD_VALUE', `${name}[1]`, `${name} angle must be a finite number of degrees, found ${typeName(ang)}`);
+    if (typeof mag !== 'number' || !Number.isFinite(mag)) fail('FRAME_BAD_VALUE', `${phaseName(field, k)}[0]`, `${phaseName(field, k)} magnitude must be a finite number, found ${typeName(mag)}`);
+    if (mag < 0) fail('FRAME_BAD_VALUE', `${phaseName(field, k)}[0]`, `${phaseName(field, k)} magnitude must not be negative, found ${mag}`);
+    if (typeof ang !== 'number' || !Number.isFinite(ang)) fail('FRAME_BAD_VALUE', `${phaseName(field, k)}[1]`, `${phaseName(field, k)} angle must be a finite number of degrees, found ${typeName(ang)}`);
     polarToRectInto(mag, ang, out, 2 * k);
   }
   return out;
+}
+
+function phaseName(field: string, k: number): string {
+  return `${field}.${PHASES[k]}`;
 }
 
 function magnitudeSet(value: unknown, field: string, names: readonly string[]): Float64Array {
   const o = objectField(value, field);
   const out = new Float64Array(3);
   for (let k = 0; k < 3; k++) {
-    const name = `${field}.${names[k]}`;
     const m = o[names[k]!];
-    if (m === undefined || m === null) fail('FRAME_MISSING_FIELD', name, `${name} is missing`);
-    if (typeof m !== 'number' || !Number.isFinite(m)) fail('FRAME_BAD_VALUE', name, `${name} must be a finite number, found ${typeName(m)}`);
-    if (m < 0) fail('FRAME_BAD_VALUE', name, `${name} must not be negative, found ${m}`);
+    if (m === undefined || m === null) fail('FRAME_MISSING_FIELD', `${field}.${names[k]}`, `${field}.${names[k]} is missing`);
+    if (typeof m !== 'number' || !Number.isFinite(m)) fail('FRAME_BAD_VALUE', `${field}.${names[k]}`, `${field}.${names[k]} must be a finite number, found ${typeName(m)}`);
+    if (m < 0) fail('FRAME_BAD_VALUE', `${field}.${names[k]}`, `${field}.${names[k]} must not be negative, found ${m}`);
     out[k] = m;
   }
   return out;

@@ -4,7 +4,7 @@
  * field and a stable FRAME_* code.
  */
 import { describe, expect, it } from 'vitest';
-import { parseFrame, validateFrame, parseTimestamp } from '../../../agent/core/frames.js';
+import { createPhasorScratch, parseFrame, parseTimestamp, validateFrame } from '../../../agent/core/frames.js';
 
 const PHASOR_EXAMPLE = {
   ts: '2026-03-02T14:03:07.250Z',
@@ -152,3 +152,24 @@ describe('timestamps (ISO-8601 or epoch milliseconds)', () => {
 function defaultLimits() {
   return { maxPayloadBytes: 4 << 20, maxSamplesPerChannel: 131072, minSampleRate: 960, maxSampleRate: 1e6, minFreqHz: 30, maxFreqHz: 90 };
 }
+
+describe('phasor sets written into caller scratch buffers', () => {
+  it('writes v and i into the given buffers, with the values of new arrays', () => {
+    const scratch = createPhasorScratch();
+    const own = validateFrame(PHASOR_EXAMPLE, { feeder: 'F1', kind: 'phasor' });
+    const into = validateFrame(PHASOR_EXAMPLE, { feeder: 'F1', kind: 'phasor', scratch });
+    if (!own.ok || own.frame.kind !== 'phasor' || !into.ok || into.frame.kind !== 'phasor') throw new Error('expected phasor frames');
+    expect(into.frame.v).toBe(scratch.v);
+    expect(into.frame.i).toBe(scratch.i);
+    expect([...into.frame.v!]).toEqual([...own.frame.v!]);
+    expect([...into.frame.i!]).toEqual([...own.frame.i!]);
+  });
+
+  it('still names the phase at fault when a set is malformed', () => {
+    const r = validateFrame({ ...PHASOR_EXAMPLE, i: { ...PHASOR_EXAMPLE.i, b: [205.3] } }, { feeder: 'F1', kind: 'phasor', scratch: createPhasorScratch() });
+    expect(r.ok).toBe(false);
+    if (r.ok) return;
+    expect(r.error.code).toBe('FRAME_BAD_VALUE');
+    expect(r.error.field).toBe('i.b');
+  });
+});
