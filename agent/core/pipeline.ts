@@ -12,11 +12,23 @@ import type { AlarmTransition, DisturbanceEvent } from './detect/types.js';
 import type { BasicWindow } from './dsp/waveform-estimator.js';
 import { WaveformEstimator } from './dsp/waveform-estimator.js';
 import type { FrameErrorCode } from './errors.js';
-import type { Frame, FrameLimits, PhasorFrame, RmsFrame, SamplesFrame } from './frames.js';
-import { DEFAULT_FRAME_LIMITS, FEEDER_ID_PATTERN, parseFrame, validateFrame } from './frames.js';
+import type { Frame, FrameKind, FrameLimits, PhasorFrame, PhasorScratch, RmsFrame, SamplesFrame } from './frames.js';
+import { createPhasorScratch, DEFAULT_FRAME_LIMITS, FEEDER_ID_PATTERN, parseFrame, validateFrame } from './frames.js';
 import type { RawFrame } from './ports.js';
 import type { PhaseTriple, QuantityResult, SequenceResult, VoltageResult } from './result.js';
-import { currentFromMagnitudes, quantityFromPhasors, SequenceScratch, voltageFromMagnitudes, voltageFromPhasors } from './sequence/quantities.js';
+import { copyResult } from './result.js';
+import type { QuantityRecord, VoltageRecord } from './sequence/quantities.js';
+import {
+  currentFromMagnitudes,
+  emptyQuantityRecord,
+  emptyVoltageRecord,
+  quantityFromPhasors,
+  quantityFromPhasorsInto,
+  SequenceScratch,
+  voltageFromMagnitudes,
+  voltageFromPhasors,
+  voltageFromPhasorsInto,
+} from './sequence/quantities.js';
 
 export interface FeederSettings {
   readonly id: string;
@@ -41,6 +53,18 @@ export interface PipelineSettings {
   readonly limits?: FrameLimits | undefined;
   /** Upper bound on the number of feeders (listed + discovered), so a misbehaving publisher cannot exhaust memory. */
   readonly maxFeeders?: number | undefined;
+}
+
+export interface PipelineOptions {
+  /**
+   * 'new' (default): every result in `results` is a record of its own.
+   * 'reused': the result of a phasor frame is written into one record per
+   * feeder, overwritten by that feeder's next phasor frame; a caller that keeps
+   * one must copy it (copyResult). For a host that looks at few of them: at tens
+   * of thousands of frames per second the new records are most of the garbage.
+   * Aggregates, alarms, events and latest() are new records either way.
+   */
+  readonly frameResults?: 'new' | 'reused' | undefined;
 }
 
 export interface Rejection {
@@ -99,8 +123,16 @@ const SWELL_THRESHOLD = 1.1;
 const INTERRUPTION_THRESHOLD = 0.05;
 const INV_SQRT3 = 1 / Math.sqrt(3);
 
+/** The reused record of a feeder's phasor-frame results (PipelineOptions.frameResults 'reused'). */
+interface FrameRecord {
+  readonly result: SequenceResult;
+  readonly v: VoltageRecord;
+  readonly i: QuantityRecord;
+}
+
 class FeederProcessor {
   private readonly scratch = new SequenceScratch();
+  private record: FrameRecord | null = null;
   private readonly detector: FeederDetector;
   private readonly aggregator: IntervalAggregator;
   private estimator: WaveformEstimator | null = null;
@@ -121,14 +153,18 @@ class FeederProcessor {
     this.accept(this.fromBasicWindow(w));
   };
 
-  constructor(readonly settings: FeederSettings) {
+  constructor(
+    readonly settings: FeederSettings,
+    private readonly reuseFrameResults = false,
+  ) {
     this.detector = new FeederDetector(settings.id, settings.detection, { voltageLN: settings.nominalVoltageLN });
     this.aggregator = new IntervalAggregator({ feeder: settings.id, nominalHz: settings.nominalHz });
     this.detOut = { alarms: [], events: [], diagnostics: [] };
   }
 
   latest(): SequenceResult | null {
-    return this.latestResult;
+    const r = this.latestResult;
+    return r !== null && r === this.record?.result ? copyResult(r) : r;
   }
 
   restore(active: readonly AlarmTransition[]): void {
@@ -211,9 +247,25 @@ class FeederProcessor {
   }
 
   private fromPhasor(f: PhasorFrame): SequenceResult {
+    if (this.reuseFrameResults) return this.fromPhasorReused(f);
     const v = f.v === null ? null : voltageFromPhasors(f.v, this.scratch);
     const i = f.i === null ? null : quantityFromPhasors(f.i, this.scratch);
     return this.result(f.ts, 'frame', 0, f.freq, this.voltageFlag(v), v, i);
+  }
+
+  private fromPhasorReused(f: PhasorFrame): SequenceResult {
+    const rec = (this.record ??= {
+      result: { ts: NaN, feeder: this.settings.id, window: 'frame', durationMs: 0, freq: null, flagged: false, v: null, i: null, count: 1 },
+      v: emptyVoltageRecord(),
+      i: emptyQuantityRecord(),
+    });
+    const r = rec.result;
+    r.ts = f.ts;
+    r.freq = f.freq;
+    r.v = f.v === null ? null : voltageFromPhasorsInto(f.v, this.scratch, rec.v);
+    r.i = f.i === null ? null : quantityFromPhasorsInto(f.i, this.scratch, rec.i);
+    r.flagged = this.voltageFlag(r.v);
+    return r;
   }
 
   private fromRms(f: RmsFrame): SequenceResult {
@@ -287,19 +339,29 @@ export class Pipeline {
   private readonly accepted: Record<string, number> = Object.create(null) as Record<string, number>;
   private readonly rejected: Record<string, Record<string, number>> = Object.create(null) as Record<string, Record<string, number>>;
   private readonly pendingRestore = new Map<string, AlarmTransition[]>();
+  private readonly reuseFrameResults: boolean;
+  // Each frame is consumed before the next is parsed: one set of buffers and one options record serve them all.
+  private readonly validate: { feeder: string | undefined; kind: FrameKind | undefined; limits: FrameLimits; scratch: PhasorScratch };
 
-  constructor(private readonly settings: PipelineSettings) {
+  constructor(
+    private readonly settings: PipelineSettings,
+    options: PipelineOptions = {},
+  ) {
     this.limits = settings.limits ?? DEFAULT_FRAME_LIMITS;
+    this.reuseFrameResults = options.frameResults === 'reused';
+    this.validate = { feeder: undefined, kind: undefined, limits: this.limits, scratch: createPhasorScratch() };
     this.maxFeeders = settings.maxFeeders ?? DEFAULT_MAX_FEEDERS;
     const m = new Map<string, FeederSettings>();
     for (const f of settings.feeders) m.set(f.id, f);
     this.configured = m;
     // Listed feeders exist from the start, so stale-data can fire for one that never sends.
-    for (const f of settings.feeders) this.processors.set(f.id, new FeederProcessor(f));
+    for (const f of settings.feeders) this.processors.set(f.id, new FeederProcessor(f, this.reuseFrameResults));
   }
 
   ingest(raw: RawFrame, out: PipelineOutput): void {
-    const opts = { feeder: raw.feeder, kind: raw.kind, limits: this.limits };
+    const opts = this.validate;
+    opts.feeder = raw.feeder;
+    opts.kind = raw.kind;
     const p = raw.payload;
     const res = typeof p === 'string' || p instanceof Uint8Array ? parseFrame(p, opts) : validateFrame(p, opts);
     if (!res.ok) {
@@ -321,7 +383,7 @@ export class Pipeline {
         this.reject(out, { feeder: null, code: 'FRAME_UNKNOWN_FEEDER', field: 'feeder', message: `feeder "${frame.feeder}" not accepted: the limit of ${this.maxFeeders} feeders is reached`, origin });
         return;
       }
-      proc = new FeederProcessor({ ...this.settings.defaults, id: frame.feeder });
+      proc = new FeederProcessor({ ...this.settings.defaults, id: frame.feeder }, this.reuseFrameResults);
       const restore = this.pendingRestore.get(frame.feeder);
       if (restore !== undefined) {
         proc.restore(restore);

@@ -63,6 +63,24 @@ export interface SequenceResult {
   count: number;
 }
 
+/** A deep copy of a result: for keeping a result whose record the pipeline reuses (PipelineOptions.frameResults). */
+export function copyResult(r: SequenceResult): SequenceResult {
+  return { ts: r.ts, feeder: r.feeder, window: r.window, durationMs: r.durationMs, freq: r.freq, flagged: r.flagged, v: r.v === null ? null : copyVoltage(r.v), i: r.i === null ? null : copyQuantity(r.i), count: r.count };
+}
+
+function copyQuantity(q: QuantityResult): QuantityResult {
+  return { zero: copyPhasor(q.zero), pos: copyPhasor(q.pos), neg: copyPhasor(q.neg), u2: q.u2, u0: q.u0, rms: q.rms === null ? null : { a: q.rms.a, b: q.rms.b, c: q.rms.c }, thd: q.thd === null ? null : { a: q.thd.a, b: q.thd.b, c: q.thd.c } };
+}
+
+function copyVoltage(v: VoltageResult): VoltageResult {
+  const q = copyQuantity(v);
+  return { ...q, rmsLL: v.rmsLL === null ? null : { ab: v.rmsLL.ab, bc: v.rmsLL.bc, ca: v.rmsLL.ca }, lvur: v.lvur, pvur: v.pvur };
+}
+
+function copyPhasor(p: PhasorOut | null): PhasorOut | null {
+  return p === null ? null : [p[0], p[1]];
+}
+
 /** Significant digits kept on the wire: far below any measurement uncertainty, far above float noise. */
 const WIRE_DIGITS = 10;
 

@@ -2,11 +2,11 @@
  * Builds the per-quantity part of a result (sequence phasors, u2, u0, RMS
  * magnitudes, the NEMA and IEEE rates) from what a frame carries: full
  * phasors, or magnitudes only. The scratch buffers belong to the caller (one
- * set per feeder processor), so the arithmetic itself allocates nothing; only
- * the result record is new.
+ * set per feeder processor), so the arithmetic itself allocates nothing; the
+ * result record is new, or the caller's own record overwritten (the *Into forms).
  */
 import { angleDegAt, magnitudeAt } from '../complex/complex.js';
-import type { PhaseTriple, PhasorOut, QuantityResult, VoltageResult } from '../result.js';
+import type { LineTriple, PhaseTriple, PhasorOut, QuantityResult, VoltageResult } from '../result.js';
 import { fortescueInto } from './fortescue.js';
 import { ieeePvurPercent, nemaLvurPercent, sequenceMagnitudesFromZeroSumInto, u0Percent, u2FromLineMagnitudesPercent, u2Percent } from './unbalance.js';
 
@@ -43,38 +43,94 @@ function factor(num: PhasorOut, pos: PhasorOut, exact: number): number | null {
   return pos[0] > 0 ? (num[0] === 0 ? 0 : exact) : null;
 }
 
-function component(seq: Float64Array, k: number, floor: number): PhasorOut {
+/** A quantity record with every member present, as the *Into functions fill it. */
+export interface QuantityRecord extends QuantityResult {
+  zero: PhasorOut;
+  pos: PhasorOut;
+  neg: PhasorOut;
+  rms: PhaseTriple;
+}
+
+export interface VoltageRecord extends QuantityRecord {
+  rmsLL: LineTriple;
+  lvur: number | null;
+  pvur: number | null;
+}
+
+// One literal with every field: one stable object shape, whether a record is new or reused. The numbers start
+// as NaN, a double: starting from 0 (a small integer to V8) would change the record's shape at its first write.
+export function emptyQuantityRecord(): QuantityRecord {
+  return { zero: [NaN, NaN], pos: [NaN, NaN], neg: [NaN, NaN], u2: null, u0: null, rms: { a: NaN, b: NaN, c: NaN }, thd: null };
+}
+
+export function emptyVoltageRecord(): VoltageRecord {
+  return {
+    zero: [NaN, NaN],
+    pos: [NaN, NaN],
+    neg: [NaN, NaN],
+    u2: null,
+    u0: null,
+    rms: { a: NaN, b: NaN, c: NaN },
+    thd: null,
+    rmsLL: { ab: NaN, bc: NaN, ca: NaN },
+    lvur: null,
+    pvur: null,
+  };
+}
+
+function componentInto(seq: Float64Array, k: number, floor: number, out: PhasorOut): void {
   const m = magnitudeAt(seq, 2 * k);
-  return m < floor ? [0, 0] : [m, angleDegAt(seq, 2 * k)];
+  if (m < floor) {
+    out[0] = 0;
+    out[1] = 0;
+  } else {
+    out[0] = m;
+    out[1] = angleDegAt(seq, 2 * k);
+  }
 }
 
-/** Sequence part of a phasor set abc (interleaved rectangular, RMS). */
-export function quantityFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): QuantityResult {
+/** Sequence components, u2, u0 and phase magnitudes of abc into q. */
+function sequenceInto(abc: Float64Array, s: SequenceScratch, q: QuantityRecord, thd: PhaseTriple | null): void {
   transform(abc, s);
-  const zero = component(s.seq, 0, s.floor), pos = component(s.seq, 1, s.floor), neg = component(s.seq, 2, s.floor);
-  return { zero, pos, neg, u2: factor(neg, pos, u2Percent(s.seq)), u0: factor(zero, pos, u0Percent(s.seq)), rms: { a: s.ma, b: s.mb, c: s.mc }, thd };
+  componentInto(s.seq, 0, s.floor, q.zero);
+  componentInto(s.seq, 1, s.floor, q.pos);
+  componentInto(s.seq, 2, s.floor, q.neg);
+  q.u2 = factor(q.neg, q.pos, u2Percent(s.seq));
+  q.u0 = factor(q.zero, q.pos, u0Percent(s.seq));
+  q.rms.a = s.ma;
+  q.rms.b = s.mb;
+  q.rms.c = s.mc;
+  q.thd = thd;
 }
 
-/** Voltage part from line-to-neutral phasors: adds L-L magnitudes and the NEMA/IEEE rates. */
-export function voltageFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): VoltageResult {
-  transform(abc, s);
-  const zero = component(s.seq, 0, s.floor), pos = component(s.seq, 1, s.floor), neg = component(s.seq, 2, s.floor);
+/** Sequence part of a phasor set abc (interleaved rectangular, RMS), written into q (overwritten whole). */
+export function quantityFromPhasorsInto(abc: Float64Array, s: SequenceScratch, q: QuantityRecord, thd: PhaseTriple | null = null): QuantityRecord {
+  sequenceInto(abc, s, q, thd);
+  return q;
+}
+
+/** Voltage part from line-to-neutral phasors, written into v: adds L-L magnitudes and the NEMA/IEEE rates. */
+export function voltageFromPhasorsInto(abc: Float64Array, s: SequenceScratch, v: VoltageRecord, thd: PhaseTriple | null = null): VoltageRecord {
+  sequenceInto(abc, s, v, thd);
   const ab = hypot2(abc[0]! - abc[2]!, abc[1]! - abc[3]!);
   const bc = hypot2(abc[2]! - abc[4]!, abc[3]! - abc[5]!);
   const ca = hypot2(abc[4]! - abc[0]!, abc[5]! - abc[1]!);
-  // One literal with every field: one stable object shape and no intermediate record.
-  return {
-    zero,
-    pos,
-    neg,
-    u2: factor(neg, pos, u2Percent(s.seq)),
-    u0: factor(zero, pos, u0Percent(s.seq)),
-    rms: { a: s.ma, b: s.mb, c: s.mc },
-    thd,
-    rmsLL: { ab, bc, ca },
-    lvur: finiteOrNull(nemaLvurPercent(ab, bc, ca)),
-    pvur: finiteOrNull(ieeePvurPercent(s.ma, s.mb, s.mc)),
-  };
+  v.rmsLL.ab = ab;
+  v.rmsLL.bc = bc;
+  v.rmsLL.ca = ca;
+  v.lvur = finiteOrNull(nemaLvurPercent(ab, bc, ca));
+  v.pvur = finiteOrNull(ieeePvurPercent(s.ma, s.mb, s.mc));
+  return v;
+}
+
+/** Sequence part of a phasor set abc (interleaved rectangular, RMS), as a new record. */
+export function quantityFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): QuantityResult {
+  return quantityFromPhasorsInto(abc, s, emptyQuantityRecord(), thd);
+}
+
+/** Voltage part from line-to-neutral phasors, as a new record. */
+export function voltageFromPhasors(abc: Float64Array, s: SequenceScratch, thd: PhaseTriple | null = null): VoltageResult {
+  return voltageFromPhasorsInto(abc, s, emptyVoltageRecord(), thd);
 }
 
 /**
