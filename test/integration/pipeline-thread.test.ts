@@ -106,6 +106,61 @@ describe('pipeline on a worker thread', () => {
   });
 });
 
+describe('pipeline on a worker thread: what travels with each frame', () => {
+  it('keeps feeder, kind and origin right for every frame when the distinct sources outgrow the key table', async () => {
+    const { PipelineThread } = await threadModule();
+    const rejections: string[] = [];
+    const thread = new PipelineThread(SETTINGS, {
+      onOutput: (o) => rejections.push(...o.rejections.map((r) => `${r.feeder}|${r.origin}`)),
+      onError: () => undefined,
+      onFatal: () => undefined,
+    });
+    // 20,000 distinct origins: past the table's bound of 16,384, so the numbering starts over mid-stream.
+    const expected: string[] = [];
+    for (let k = 0; k < 20_000; k++) {
+      const feeder = `F${k % 3}`;
+      const bad = k % 500 === 7;
+      if (bad) expected.push(`${feeder}|source-${k}`);
+      thread.ingest({ feeder, kind: 'phasor', payload: Buffer.from(bad ? 'not json' : payload(T0 + 100 * k)), origin: `source-${k}` });
+      if (k % 1000 === 999) await new Promise((r) => setImmediate(r));
+    }
+    await thread.close();
+    expect(rejections).toEqual(expected);
+    const accepted = thread.stats().accepted;
+    expect(accepted.F0! + accepted.F1! + accepted.F2!).toBe(20_000 - expected.length);
+    expect(Object.keys(accepted).sort()).toEqual(['F0', 'F1', 'F2']);
+  });
+
+  it('decodes a payload that is not ASCII as UTF-8, in a batch with ASCII ones', async () => {
+    const { PipelineThread } = await threadModule();
+    const rejections: string[] = [];
+    const thread = new PipelineThread(SETTINGS, { onOutput: (o) => rejections.push(...o.rejections.map((r) => r.message)), onError: () => undefined, onFatal: () => undefined });
+    thread.ingest({ feeder: 'F1', kind: 'phasor', payload: Buffer.from(payload(T0)), origin: 'test' });
+    // Unknown fields are ignored; a name with non-ASCII letters must not disturb the parse.
+    const withNote = JSON.stringify({ ...JSON.parse(payload(T0 + 100)), note: 'Umspannwerk Süd – Abgang 3' });
+    thread.ingest({ feeder: 'F1', kind: 'phasor', payload: Buffer.from(withNote, 'utf8'), origin: 'test' });
+    thread.ingest({ feeder: 'F1', kind: 'phasor', payload: Buffer.from('{"ts": "é"}', 'utf8'), origin: 'test' });
+    thread.ingest({ feeder: 'F1', kind: 'phasor', payload: Buffer.from(payload(T0 + 200)), origin: 'test' });
+    await thread.close();
+    expect(thread.stats().accepted).toEqual({ F1: 3 });
+    expect(rejections).toHaveLength(1);
+    expect(rejections[0]).toContain('"é"');
+  });
+
+  it('takes payloads given as objects and as bytes in one batch, in order', async () => {
+    const { PipelineThread } = await threadModule();
+    const thread = new PipelineThread(SETTINGS, { onOutput: () => undefined, onError: () => undefined, onFatal: () => undefined });
+    for (let k = 0; k < 10; k++) {
+      const text = payload(T0 + 100 * k);
+      thread.ingest({ feeder: 'F1', kind: 'phasor', payload: k % 2 === 0 ? Buffer.from(text) : (JSON.parse(text) as Record<string, unknown>), origin: 'test' });
+    }
+    await thread.close();
+    // Out of order would be refused as time going backwards.
+    expect(thread.stats()).toEqual({ accepted: { F1: 10 }, rejected: {} });
+    expect(thread.latest('F1')?.ts).toBe(T0 + 900);
+  });
+});
+
 describe('pipeline on a worker thread with a payload that cannot cross threads', () => {
   it('drops that batch with a named reason and keeps processing the frames after it', async () => {
     const { PipelineThread } = await threadModule();
