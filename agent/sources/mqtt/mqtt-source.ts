@@ -25,6 +25,7 @@ import { AgentError } from '../../core/errors.js';
 import type { FrameSink, FrameSource, RawFrame, SourceState, SourceStatus, TimerHandle } from '../../core/ports.js';
 import { ExponentialBackoff } from '../../core/backoff.js';
 import { redactUrl, resolveSourceOptions, type MqttSourceOptions, type MqttSourceSettings } from './options.js';
+import type { InputTopic } from './topics.js';
 import { inputFilters, parseInputTopic } from './topics.js';
 
 /** Counters of the source itself (frame rejections are counted by the pipeline). */
@@ -55,6 +56,8 @@ type Phase = 'new' | 'running' | 'ending' | 'ended';
 // the back-off from the beginning; shorter ones keep growing it, so a broker that
 // accepts and drops at once is not hammered at the minimum delay.
 const STABLE_CONNECTION_FACTOR = 2;
+/** Distinct topics remembered (a few per feeder): far above any substation, low enough to bound memory against topic floods. */
+const TOPIC_CACHE_SIZE = 8192;
 
 export class MqttSource implements FrameSource {
   readonly name: string;
@@ -79,6 +82,8 @@ export class MqttSource implements FrameSource {
   private loans = 0;
   private closing: Promise<void> | null = null;
   private ended: Promise<void> | null = null;
+  /** Topics already read (feeder and kind, or null when not an input topic); cleared when it reaches TOPIC_CACHE_SIZE. */
+  private readonly topics = new Map<string, InputTopic | null>();
   private readonly counts: MqttSourceCounters = { frames: 0, ignored: 0, oversized: 0, pauses: 0, connects: 0, reconnectAttempts: 0 };
 
   constructor(options: MqttSourceOptions) {
@@ -160,7 +165,12 @@ export class MqttSource implements FrameSource {
   private onPublish(packet: IPublishPacket, done: () => void): void {
     const sink = this.sink;
     const topic = packet.topic;
-    const parsed = parseInputTopic(this.settings.inputPrefix, topic);
+    let parsed = this.topics.get(topic);
+    if (parsed === undefined) {
+      parsed = parseInputTopic(this.settings.inputPrefix, topic);
+      if (this.topics.size >= TOPIC_CACHE_SIZE) this.topics.clear();
+      this.topics.set(topic, parsed);
+    }
     if (parsed === null || sink === null || this.phase === 'ended') {
       this.counts.ignored++;
       done();
