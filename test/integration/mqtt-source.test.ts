@@ -158,6 +158,36 @@ describe.skipIf(!mosquittoAvailable())('MqttSource with a real mosquitto', () =>
     expect(again.texts().map(seqOf)).toEqual([0, 1]);
   });
 
+  test('acknowledgements of QoS 1 frames that arrive together leave in one socket write, and each frame arrives once', async () => {
+    // 200 QoS 1 frames queued for a persistent session while it is away: the broker then sends them in bursts.
+    const away = source({ clean: false, clientId: 'seqmon-test-ack-batch', qos: 1 });
+    await away.src.start(new FrameCollector());
+    await waitFor(() => away.src.status().state === 'connected', 5_000);
+    away.src.destroy(); // not close(): that would unsubscribe
+    await waitFor(() => away.src.status().state === 'closed', 5_000);
+    const pub = await publisher(broker.url, td);
+    for (let n = 0; n < 200; n++) await pub.publishAsync('seqmon/in/F1/phasor', numbered(n), { qos: 1 });
+
+    const sink = new FrameCollector();
+    const { src } = source({ clean: false, clientId: 'seqmon-test-ack-batch', qos: 1 });
+    await src.start(sink);
+    // Count the writes that reach the socket (each one is a system call); the connection has not opened yet.
+    const socket = src.client.stream as unknown as Record<'_write' | '_writev', (...args: unknown[]) => unknown>;
+    let writes = 0;
+    for (const method of ['_write', '_writev'] as const) {
+      const original = socket[method].bind(socket);
+      socket[method] = (...args: unknown[]) => {
+        writes++;
+        return original(...args);
+      };
+    }
+    await waitFor(() => sink.frames.length === 200, 5_000);
+    await new Promise((r) => setTimeout(r, 200)); // an unacknowledged frame would come again
+    expect(sink.texts().map(seqOf)).toEqual(Array.from({ length: 200 }, (_, n) => n));
+    // One write per frame without holding; with it, one per burst (mosquitto sends up to 20 unacknowledged at a time).
+    expect(writes).toBeLessThan(50);
+  });
+
   test('close() unsubscribes, ends the connection, reports closed, and can be called twice', async () => {
     const sink = new FrameCollector();
     const { src, states } = source();

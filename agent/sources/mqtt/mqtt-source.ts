@@ -82,6 +82,8 @@ export class MqttSource implements FrameSource {
   private loans = 0;
   private closing: Promise<void> | null = null;
   private ended: Promise<void> | null = null;
+  /** The socket whose writes holdAcks() holds until the end of this turn, if any. */
+  private corked: { uncork: () => void } | null = null;
   /** Topics already read (feeder and kind, or null when not an input topic); cleared when it reaches TOPIC_CACHE_SIZE. */
   private readonly topics = new Map<string, InputTopic | null>();
   private readonly counts: MqttSourceCounters = { frames: 0, ignored: 0, oversized: 0, pauses: 0, connects: 0, reconnectAttempts: 0 };
@@ -163,6 +165,7 @@ export class MqttSource implements FrameSource {
   // ---- inbound -------------------------------------------------------------
 
   private onPublish(packet: IPublishPacket, done: () => void): void {
+    this.holdAcks();
     const sink = this.sink;
     const topic = packet.topic;
     let parsed = this.topics.get(topic);
@@ -192,6 +195,27 @@ export class MqttSource implements FrameSource {
     this.held = done;
     if (previous !== null) previous();
   }
+
+  /**
+   * Holds the socket's writes (the acknowledgements of QoS 1 messages) until
+   * the end of this turn of the event loop: the acknowledgements of every
+   * message that arrived in one read leave in one write instead of one system
+   * call each. An acknowledgement is late by at most that one turn.
+   */
+  private holdAcks(): void {
+    if (this.corked !== null) return;
+    const stream = this.client.stream as { cork?: () => void; uncork?: () => void } | undefined;
+    if (stream?.cork === undefined || stream.uncork === undefined) return;
+    stream.cork();
+    this.corked = stream as { uncork: () => void };
+    setImmediate(this.releaseAcks);
+  }
+
+  private readonly releaseAcks = (): void => {
+    const stream = this.corked;
+    this.corked = null;
+    stream?.uncork();
+  };
 
   private resume(): void {
     const done = this.held;
