@@ -135,4 +135,33 @@ describe('loss of potential through the pipeline (VT fuse-failure logic, common 
     expect(s.alarmLog()).toEqual([['open-phase', 'raised', 'alarm', 'b', lost - T0 + OP.pickupMs]]);
     expect(s.alarms[0]!.message).toMatch(/VT fuse/);
   });
+
+  it('raises and clears a current-based open phase on schedule when frames with voltages only come in between (a source whose current readings lag)', () => {
+    // Healthy source-side voltages say nothing about a fuse downstream of the voltage transformers (common practice):
+    // a frame without currents must neither restart the pickup timer nor count towards the dropout.
+    const s = new FeederStream();
+    const every = (t: number, open: boolean) => ({ v: BUS_V, i: (t / FRAME_MS) % 3 === 1 ? null : open ? wyeOpen('c') : LOAD });
+    let t = s.run(T0, T0 + 2000, FRAME_MS, (x) => every(x, false));
+    const open = t;
+    t = s.run(t, t + 4000, FRAME_MS, (x) => every(x, true));
+    const close = t;
+    s.run(t, t + 8000, FRAME_MS, (x) => every(x, false));
+    expect(s.alarmLog()).toEqual([
+      ['open-phase', 'raised', 'alarm', 'c', open - T0 + OP.pickupMs],
+      ['open-phase', 'cleared', 'alarm', 'c', close - T0 + OP.dropoutMs],
+    ]);
+  });
+
+  it('still clears a voltage-based open phase on a feeder that never sends currents', () => {
+    const s = new FeederStream();
+    let t = s.run(T0, T0 + 2000, FRAME_MS, () => ({ v: BUS_V }));
+    const lost = t;
+    t = s.run(t, t + 3000, FRAME_MS, () => ({ v: { a: [VLN, 0], b: [VLN, -120], c: [0.05 * VLN, 120] } }));
+    const back = t;
+    s.run(t, t + 8000, FRAME_MS, () => ({ v: BUS_V }));
+    expect(s.alarmLog()).toEqual([
+      ['open-phase', 'raised', 'alarm', 'c', lost - T0 + OP.pickupMs],
+      ['open-phase', 'cleared', 'alarm', 'c', back - T0 + OP.dropoutMs],
+    ]);
+  });
 });

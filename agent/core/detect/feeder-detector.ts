@@ -66,6 +66,8 @@ export class FeederDetector {
   private open: DelayState = DELAY_NORMAL;
   private openPhase: Phase | null = null;
   private lop: DelayState = DELAY_NORMAL;
+  /** Data time of the newest result that carried phase currents. */
+  private lastCurrentTs: number | null = null;
   private readonly fresh: FreshnessMonitor;
   private readonly faults: FaultRecorder;
   private readonly finding = new OpenPhaseFinding();
@@ -175,8 +177,12 @@ export class FeederDetector {
   private openPhaseStep(r: SequenceResult, now: number, out: DetectionOutput): void {
     const cfg = this.settings.openPhase;
     const f = this.finding;
+    // A feeder that sent currents within the stale-data window measures currents: a result without them is a gap.
+    const hasCurrents = r.i !== null && r.i.rms !== null;
+    if (hasCurrents) this.lastCurrentTs = now;
+    const currentsExpected = !hasCurrents && this.lastCurrentTs !== null && now - this.lastCurrentTs <= this.settings.staleData.afterMs;
     if (this.faults.active()) f.reset('fault-blocked');
-    else evaluateOpenPhase(cfg, this.settings.fault.pickupA, this.nominal.voltageLN, r, f);
+    else evaluateOpenPhase(cfg, this.settings.fault.pickupA, this.nominal.voltageLN, r, f, currentsExpected);
 
     const verdict = f.verdict;
     if (verdict === 'unobservable' || verdict === 'fault-blocked') return; // hold: no evidence either way

@@ -98,8 +98,19 @@ function collapsedPhase(x0: number, x1: number, x2: number, frac: number, minOth
  * Judges one result. `faultPickupA` is null when fault detection is disabled
  * (then nothing blocks). `nominalVLN` is the declared line-to-neutral voltage
  * or null (then a phase is compared with the mean of the other two).
+ * `currentsExpected`: the feeder measures currents (it sent some lately) but
+ * this result has none. Its healthy voltages then prove nothing, as voltages
+ * taken upstream of an open point stay healthy: no verdict, so that a frame
+ * without currents neither resets nor clears a current-based open phase.
  */
-export function evaluateOpenPhase(cfg: OpenPhaseSettings, faultPickupA: number | null, nominalVLN: number | null, r: SequenceResult, out: OpenPhaseFinding): void {
+export function evaluateOpenPhase(
+  cfg: OpenPhaseSettings,
+  faultPickupA: number | null,
+  nominalVLN: number | null,
+  r: SequenceResult,
+  out: OpenPhaseFinding,
+  currentsExpected = false,
+): void {
   const iq = r.i;
   const irms = iq === null ? null : iq.rms;
   if (irms !== null && faultPickupA !== null && Math.max(irms.a, irms.b, irms.c) > faultPickupA) {
@@ -194,7 +205,7 @@ export function evaluateOpenPhase(cfg: OpenPhaseSettings, faultPickupA: number |
       out.quantity = 'I2/I1';
     }
   } else {
-    out.reset(voltsPresent ? 'healthy' : 'unobservable');
+    out.reset(voltsPresent && !currentsExpected ? 'healthy' : 'unobservable');
     if (v21 !== null) {
       out.value = v21;
       out.limit = cfg.negToPosVoltageRatio;
