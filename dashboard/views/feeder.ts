@@ -1,8 +1,8 @@
 /**
  * One feeder: live phasor diagrams of voltages and currents, the sequence
  * components as bars and numbers, trend charts with the alarm limits, a time
- * range picker, load-balance and compliance summaries, alarm and event
- * history, and the CSV export.
+ * range picker and a choice of aggregation window, load-balance and
+ * compliance summaries, alarm and event history, and the CSV export.
  */
 import type { AlarmWire, EventWire, FeederInfo, QuantityWire, ResultWire, Trend } from '../api.js';
 import { api, withToken } from '../api.js';
@@ -15,6 +15,9 @@ import { TrendChart, type ChartSpec } from '../trend-chart.js';
 import type { View } from '../view.js';
 
 type RangeMode = 'live' | '24h' | '7d' | 'custom';
+/** Aggregation window of the trend: 'auto' lets the server choose from the span (3 s up to 2 days, then 10 min, then 2 h). */
+type WindowChoice = 'auto' | '3s' | '10min' | '2h';
+const WINDOW_CHOICES: readonly WindowChoice[] = ['auto', '3s', '10min', '2h'];
 const HOUR = 3_600_000;
 
 function seqRows(q: QuantityWire | null, fmt: (x: number | null | undefined) => string, cls: string): string {
@@ -34,6 +37,7 @@ export class FeederView implements View {
   private charts: TrendChart[] = [];
   private specs: ChartSpec[] = [];
   private mode: RangeMode = 'live';
+  private windowChoice: WindowChoice = 'auto';
   private off: (() => void) | null = null;
   private latestPending: ResultWire | null = null;
   private alarms: AlarmWire[] = [];
@@ -45,7 +49,11 @@ export class FeederView implements View {
     /** Range from a deep link (ISO or epoch ms, optional window); shown as a custom range. */
     private readonly linked: { from: string; to: string; window: string | null } | null = null,
   ) {
-    if (linked !== null) this.mode = 'custom';
+    if (linked !== null) {
+      this.mode = 'custom';
+      const w = linked.window as WindowChoice | null;
+      if (w !== null && WINDOW_CHOICES.includes(w)) this.windowChoice = w;
+    }
   }
 
   async mount(el: HTMLElement): Promise<void> {
@@ -84,6 +92,14 @@ export class FeederView implements View {
             <button type="button" id="fv-apply">Apply</button>
           </span>
         </div>
+        <label class="window-pick">values
+          <select id="fv-win" title="Aggregation window of the trend (live view: 3 s)">
+            <option value="auto">by range</option>
+            <option value="3s">3 s</option>
+            <option value="10min">10 min</option>
+            <option value="2h">2 h</option>
+          </select>
+        </label>
         <span class="grow"></span>
         <span class="muted" id="fv-window"></span>
         <a id="fv-csv" href="#" download>Export CSV</a>
@@ -123,6 +139,12 @@ export class FeederView implements View {
       });
     });
     el.querySelector('#fv-apply')!.addEventListener('click', () => void this.loadTrend());
+    const pick = el.querySelector<HTMLSelectElement>('#fv-win')!;
+    pick.value = this.windowChoice;
+    pick.addEventListener('change', () => {
+      this.windowChoice = pick.value as WindowChoice;
+      void this.loadTrend();
+    });
     if (this.linked !== null) {
       el.querySelector<HTMLElement>('#fv-custom')!.hidden = false;
       const local = (v: string) => {
@@ -167,6 +189,9 @@ export class FeederView implements View {
 
   private markRange(): void {
     this.el?.querySelectorAll<HTMLButtonElement>('[data-range]').forEach((b) => b.setAttribute('aria-pressed', String(b.dataset.range === this.mode)));
+    // The live view follows the 3-s values as they close; the window applies to the other ranges.
+    const pick = this.el?.querySelector<HTMLSelectElement>('#fv-win');
+    if (pick) pick.disabled = this.mode === 'live';
   }
 
   private prefillCustom(): void {
@@ -179,18 +204,17 @@ export class FeederView implements View {
 
   private rangeQuery(): string {
     const now = Date.now();
+    const window = this.windowChoice === 'auto' ? '' : `&window=${this.windowChoice}`;
     switch (this.mode) {
       case 'live':
         return `from=${now - HOUR}&to=${now + 60_000}&window=3s`;
       case '24h':
-        return `from=${now - 24 * HOUR}&to=${now}`;
+        return `from=${now - 24 * HOUR}&to=${now}${window}`;
       case '7d':
-        return `from=${now - 7 * 24 * HOUR}&to=${now}`;
+        return `from=${now - 7 * 24 * HOUR}&to=${now}${window}`;
       case 'custom': {
         const from = Date.parse(this.el!.querySelector<HTMLInputElement>('#fv-from')!.value);
         const to = Date.parse(this.el!.querySelector<HTMLInputElement>('#fv-to')!.value);
-        const w = this.linked?.window;
-        const window = w === '3s' || w === '10min' || w === '2h' ? `&window=${w}` : '';
         return `from=${Number.isFinite(from) ? from : now - 24 * HOUR}&to=${Number.isFinite(to) ? to : now}${window}`;
       }
     }
@@ -200,7 +224,7 @@ export class FeederView implements View {
     const seq = ++this.trendSeq;
     const q = this.rangeQuery();
     const csv = this.el?.querySelector<HTMLAnchorElement>('#fv-csv');
-    if (csv) csv.href = withToken(`/api/feeders/${encodeURIComponent(this.id)}/trend.csv?${q.replace(/&window=3s$/, '')}`);
+    if (csv) csv.href = withToken(`/api/feeders/${encodeURIComponent(this.id)}/trend.csv?${q}`);
     const windowLabel = this.el?.querySelector('#fv-window');
     let trend: Trend;
     try {
@@ -214,7 +238,7 @@ export class FeederView implements View {
     const ts = trend.columns.ts.map((t) => Date.parse(t));
     this.charts.forEach((c, k) => c.setData(ts, trend.columns[this.specs[k]!.key] ?? [], trend.window));
     if (windowLabel) windowLabel.textContent = trend.count === 0 ? 'no data in this range' : `${trend.count.toLocaleString()} values of ${trend.window}`;
-    void this.loadBalance(this.mode === 'live' ? `from=${Date.now() - 24 * HOUR}` : q.replace(/&window=3s$/, ''));
+    void this.loadBalance(this.mode === 'live' ? `from=${Date.now() - 24 * HOUR}` : q);
   }
 
   private async loadBalance(q: string): Promise<void> {

@@ -214,6 +214,25 @@ describe('dashboard feeder view', () => {
     await p.screenshot({ path: join(ARTIFACTS, 'feeder-7d.png'), fullPage: true });
   });
 
+  it('shows the aggregation window picked for the range, and exports that window', async () => {
+    const p = await open('/#/feeder/EH-F1');
+    const chart = '[data-chart="vU2"]';
+    await p.waitForSelector(`${chart}[data-window="3s"]`);
+    // The live view follows the 3-s values: no window to pick there.
+    expect(await p.isDisabled('#fv-win')).toBe(true);
+    await p.click('button[data-range="7d"]');
+    await p.waitForSelector(`${chart}[data-window="10min"]`);
+    expect(await p.isDisabled('#fv-win')).toBe(false);
+    await p.selectOption('#fv-win', '2h');
+    await p.waitForSelector(`${chart}[data-window="2h"]`);
+    const points = Number(await p.getAttribute(chart, 'data-points'));
+    const api = await apiJson(`/api/feeders/EH-F1/trend?from=${Date.now() - 7 * 24 * HOUR}&window=2h`);
+    expect(Math.abs(points - api.count)).toBeLessThanOrEqual(1);
+    expect(await p.getAttribute('#fv-csv', 'href')).toMatch(/window=2h/);
+    await p.selectOption('#fv-win', 'auto');
+    await p.waitForSelector(`${chart}[data-window="10min"]`);
+  });
+
   it('downloads the CSV export with the caution line, units and the data', async () => {
     const p = await open('/#/feeder/EH-F1');
     await p.waitForSelector('[data-chart="vU2"][data-window="3s"]');
