@@ -42,6 +42,31 @@ describe.skipIf(!hasInfluxd)('InfluxDB store against a real influxd', () => {
     return s;
   }
 
+  test('has the next full batch on its way to the server by the time a writer is told its previous batch is stored', async () => {
+    // A writer that prepares its next batch when woken then works while the server takes this one.
+    const s = open({ batchSize: 50, flushIntervalMs: 60_000 });
+    const t = recentBase();
+    const batch = (k: number) => Array.from({ length: 50 }, (_, j) => fullResult('F1', '3s', t + 3000 * (50 * k + j), j));
+    await s.writeResults(batch(0)); // database and retention policies exist from here on
+    const writes: number[] = [];
+    const realFetch = globalThis.fetch;
+    globalThis.fetch = (input, init) => {
+      if (String(input).includes('/write?')) writes.push(performance.now());
+      return realFetch(input, init);
+    };
+    teardown.add(() => {
+      globalThis.fetch = realFetch;
+    });
+    const first = s.writeResults(batch(1));
+    await new Promise((r) => setImmediate(r)); // the first request is under way
+    const second = s.writeResults(batch(2));
+    await first;
+    expect(writes).toHaveLength(2);
+    await second;
+    const [series] = await rows(s['ep'].database, 'SELECT count("v_u2") FROM "trend_3s"."sequence"');
+    expect(series!.values[0]![1]).toBe(150);
+  });
+
   test('creates one retention policy per window with the default retention (35 d, 1825 d, 3650 d; records 3650 d)', async () => {
     const s = open();
     await s.writeResults([fullResult('F1', '3s', recentBase())]);

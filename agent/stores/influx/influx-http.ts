@@ -50,7 +50,7 @@ async function serverError(res: Response): Promise<string> {
   return text.trim().slice(0, 300) || `HTTP ${res.status}`;
 }
 
-export async function writeLines(ep: InfluxEndpoint, rp: string, body: string, signal?: AbortSignal): Promise<WriteOutcome> {
+export async function writeLines(ep: InfluxEndpoint, rp: string, body: string | Uint8Array<ArrayBuffer>, signal?: AbortSignal): Promise<WriteOutcome> {
   let res: Response;
   try {
     const timeout = AbortSignal.timeout(ep.timeoutMs);

@@ -36,7 +36,7 @@ import { Spool, type SpooledPoint } from '../spool/spool.js';
 import { querySeries, writeLines, type InfluxEndpoint, type QuerySeries } from './influx-http.js';
 import { MEASUREMENT, RETENTION_POLICY } from './influx-schema.js';
 import { ident, msLiteral, source, stringLit } from './influxql.js';
-import { alarmLine, eventLine, sequenceLine } from './line-protocol.js';
+import { alarmLine, eventLine, LineBatch } from './line-protocol.js';
 
 export interface InfluxStoreOptions {
   /** http(s)://HOST:PORT of the InfluxDB 1.x HTTP API. */
@@ -120,9 +120,9 @@ function groupByTarget(points: readonly SpooledPoint[]): Map<string, string[]> {
   return groups;
 }
 
-function spoolEntries(groups: Map<string, string[]>): SpooledPoint[] {
+function spoolEntries(groups: Map<string, LineBatch>): SpooledPoint[] {
   const out: SpooledPoint[] = [];
-  for (const [target, lines] of groups) for (const line of lines) out.push({ target, line });
+  for (const [target, batch] of groups) for (const line of batch.lines()) out.push({ target, line });
   return out;
 }
 
@@ -147,7 +147,9 @@ export class InfluxStore implements TrendStore {
   private state: Lifecycle = 'open';
   private schemaReady = false;
   /** Lines waiting for the next flush, per retention policy, in write order. */
-  private pending = new Map<string, string[]>();
+  private pending = new Map<string, LineBatch>();
+  /** Starting size of a new batch buffer: the largest body sent so far, so a steady load does not regrow it. */
+  private batchBytes = 64 * 1024;
   private pendingCount = 0;
   private waiters: Waiter[] = [];
   private flushTimer: TimerHandle | null = null;
@@ -229,9 +231,9 @@ export class InfluxStore implements TrendStore {
 
   // ---------- write path ----------
 
-  private linesFor(target: string): string[] {
+  private linesFor(target: string): LineBatch {
     let lines = this.pending.get(target);
-    if (lines === undefined) this.pending.set(target, (lines = []));
+    if (lines === undefined) this.pending.set(target, (lines = new LineBatch(this.batchBytes)));
     return lines;
   }
 
@@ -264,7 +266,12 @@ export class InfluxStore implements TrendStore {
     this.waiters = [];
     try {
       await this.deliver(groups);
-      for (const w of waiters) w.resolve();
+      // Writers are woken one turn later, after a flush already queued has taken its lines and started: a
+      // writer that prepares its next batch when woken then does so while the server takes this one,
+      // instead of the server waiting for it. (An ordering device, not a delay: hence no scheduler timer.)
+      setImmediate(() => {
+        for (const w of waiters) w.resolve();
+      });
     } catch (e) {
       const err = isAgentError(e) ? e : new AgentError('STORE_WRITE_FAILED', `writing to InfluxDB failed: ${String(e)}`, { cause: e });
       for (const w of waiters) w.reject(err);
@@ -272,7 +279,7 @@ export class InfluxStore implements TrendStore {
   }
 
   /** Puts lines into InfluxDB or the spool; throws only when neither took them. */
-  private async deliver(groups: Map<string, string[]>): Promise<void> {
+  private async deliver(groups: Map<string, LineBatch>): Promise<void> {
     if (this.spool.size > 0 || this.draining) {
       this.toSpool(spoolEntries(groups));
       return;
@@ -286,19 +293,20 @@ export class InfluxStore implements TrendStore {
     }
     let refusal: string | null = null;
     const left: SpooledPoint[] = [];
-    for (const [target, lines] of groups) {
+    for (const [target, batch] of groups) {
       if (left.length > 0) {
-        for (const line of lines) left.push({ target, line });
+        for (const line of batch.lines()) left.push({ target, line });
         continue;
       }
-      const out = await writeLines(this.ep, target, lines.join('\n'), this.aborter.signal);
+      if (batch.byteLength > this.batchBytes) this.batchBytes = batch.byteLength;
+      const out = await writeLines(this.ep, target, batch.body(), this.aborter.signal);
       if (out.kind === 'ok') {
         this.expired += out.expired;
         this.noteReachable();
       } else if (out.kind === 'transient') {
         if (out.missingDatabase) this.schemaReady = false;
         this.noteUnreachable(out.reason);
-        for (const line of lines) left.push({ target, line });
+        for (const line of batch.lines()) left.push({ target, line });
       } else {
         refusal = out.reason;
       }
@@ -404,11 +412,11 @@ export class InfluxStore implements TrendStore {
       this.assertOpen('STORE_WRITE_FAILED');
       checkResults(results);
       let target = '';
-      let lines: string[] = [];
+      let lines: LineBatch | null = null;
       for (const r of results) {
         const rp = RETENTION_POLICY[r.window as AggregateWindow];
-        if (rp !== target) lines = this.linesFor((target = rp));
-        lines.push(sequenceLine(r));
+        if (rp !== target || lines === null) lines = this.linesFor((target = rp));
+        lines.addSequence(r);
       }
       return this.enqueued(results.length);
     } catch (e) {
@@ -420,7 +428,7 @@ export class InfluxStore implements TrendStore {
     try {
       this.assertOpen('STORE_WRITE_FAILED');
       checkAlarm(transition);
-      this.linesFor(RETENTION_POLICY.records).push(alarmLine(transition));
+      this.linesFor(RETENTION_POLICY.records).addText(alarmLine(transition));
       return this.enqueued(1);
     } catch (e) {
       return Promise.reject(e);
@@ -431,7 +439,7 @@ export class InfluxStore implements TrendStore {
     try {
       this.assertOpen('STORE_WRITE_FAILED');
       checkEvent(event);
-      this.linesFor(RETENTION_POLICY.records).push(eventLine(event));
+      this.linesFor(RETENTION_POLICY.records).addText(eventLine(event));
       return this.enqueued(1);
     } catch (e) {
       return Promise.reject(e);

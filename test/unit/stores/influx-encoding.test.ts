@@ -8,8 +8,8 @@
  */
 import { describe, expect, test } from 'vitest';
 import { msLiteral, ident, stringLit, source } from '../../../agent/stores/influx/influxql.js';
-import { alarmLine, escapeTag, eventLine, quoteField, sequenceLine } from '../../../agent/stores/influx/line-protocol.js';
-import { alarm, disturbance, hollowResult, sparseResult } from '../../contracts/trend-store-fixtures.js';
+import { alarmLine, escapeTag, eventLine, LineBatch, quoteField, sequenceLine } from '../../../agent/stores/influx/line-protocol.js';
+import { alarm, disturbance, fullResult, hollowResult, sparseResult } from '../../contracts/trend-store-fixtures.js';
 
 describe('line protocol encoding', () => {
   test('writes a result as measurement sequence with feeder and window tags, leaving null fields out', () => {
@@ -66,5 +66,37 @@ describe('InfluxQL quoting', () => {
   test('clamps time bounds to the range InfluxDB can hold (int64 nanoseconds)', () => {
     expect(msLiteral(Number.MAX_SAFE_INTEGER)).toBe('9000000000000ms');
     expect(msLiteral(-Infinity)).toBe('-9000000000000ms');
+  });
+});
+
+describe('a write request body built as bytes', () => {
+  test('is the lines joined by newlines, each line as sequenceLine / alarmLine write it', () => {
+    const results = [fullResult('F1', '3s', 1_764_000_000_000, 0), sparseResult('F2', '3s', 1_764_000_003_000), hollowResult('F3', '3s', 1_764_000_006_000)];
+    const batch = new LineBatch(256);
+    for (const r of results) batch.addSequence(r);
+    const a = alarm('F1', 5, { message: 'u2 3.1 % ≥ 3 % – check the lateral fuses' });
+    batch.addText(alarmLine(a));
+    const expected = [...results.map((r) => sequenceLine(r)), alarmLine(a)];
+    expect(batch.count).toBe(4);
+    expect(Buffer.from(batch.body()).toString('utf8')).toBe(expected.join('\n'));
+    expect(batch.lines()).toEqual(expected);
+  });
+
+  test('writes text that is not ASCII as UTF-8, in tag values too', () => {
+    const batch = new LineBatch(256);
+    batch.addSequence(hollowResult('Süd 1', '2h', 0));
+    expect(Buffer.from(batch.body()).toString('utf8')).toBe('sequence,feeder=Süd\\ 1,window=2h duration_ms=0,freq=50,flagged=false,count=0i,has_v=true,has_i=true 0');
+  });
+
+  test('grows past its starting size without losing a byte', () => {
+    const batch = new LineBatch(256);
+    const lines: string[] = [];
+    for (let k = 0; k < 500; k++) {
+      const r = fullResult(`F${k % 7}`, '3s', 1_764_000_000_000 + 3000 * k, k);
+      batch.addSequence(r);
+      lines.push(sequenceLine(r));
+    }
+    expect(batch.byteLength).toBe(Buffer.byteLength(lines.join('\n')));
+    expect(batch.lines()).toEqual(lines);
   });
 });

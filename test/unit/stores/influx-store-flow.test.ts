@@ -179,6 +179,8 @@ describe('InfluxDB store write flow', () => {
     expect(s.health()).toMatchObject({ queued: 5, queueCapacity: 5, detail: expect.stringContaining('STORE_QUEUE_FULL') });
     expect(s.stats().dropped).toBe(1);
     expect(warnings.map((w) => w.code)).toEqual(['STORE_QUEUE_FULL']);
+    // The drain tried while the server was down; its retry is due in 250 ms.
+    await waitFor(() => clock.pending() === 1, 2000, 5);
     mode = 'up';
     clock.advance(250);
     await waitFor(() => s.health().queued === 0, 2000, 5);
