@@ -66,8 +66,8 @@ export class FeederDetector {
   private open: DelayState = DELAY_NORMAL;
   private openPhase: Phase | null = null;
   private lop: DelayState = DELAY_NORMAL;
-  /** Data time of the newest result that carried phase currents. */
-  private lastCurrentTs: number | null = null;
+  /** Data time of the newest result that carried phase currents; -Infinity before the first (a number, so a step allocates nothing). */
+  private lastCurrentTs = Number.NEGATIVE_INFINITY;
   private readonly fresh: FreshnessMonitor;
   private readonly faults: FaultRecorder;
   private readonly finding = new OpenPhaseFinding();
@@ -180,7 +180,7 @@ export class FeederDetector {
     // A feeder that sent currents within the stale-data window measures currents: a result without them is a gap.
     const hasCurrents = r.i !== null && r.i.rms !== null;
     if (hasCurrents) this.lastCurrentTs = now;
-    const currentsExpected = !hasCurrents && this.lastCurrentTs !== null && now - this.lastCurrentTs <= this.settings.staleData.afterMs;
+    const currentsExpected = !hasCurrents && now - this.lastCurrentTs <= this.settings.staleData.afterMs;
     if (this.faults.active()) f.reset('fault-blocked');
     else evaluateOpenPhase(cfg, this.settings.fault.pickupA, this.nominal.voltageLN, r, f, currentsExpected);
 
