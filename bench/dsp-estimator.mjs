@@ -5,28 +5,29 @@
 // allocated per window after warm-up (target: none). The baseline, measured
 // in the same run, is one bare fft.js complex transform of 2048 points, the
 // power of two that holds one channel's window (1536 samples): what a plain
-// FFT of a single channel per window would cost.
+// FFT of a single channel per window would cost. The same window is also timed
+// at 15360 samples/s (256 per cycle), where the anti-alias filter runs first.
 import FFT from 'fft.js';
 import { WaveformEstimator } from '../dist/agent/core/dsp/waveform-estimator.js';
 import { bestNsPerOp, heapBytesPerOp } from './_timing.mjs';
 
 const RATE = 7680;
+const FAST_RATE = 15360;
 // 59 Hz: off nominal, so the frequency tracker is exercised; one second holds
 // exactly 59 cycles, so the one-second ring of blocks below is seamless.
 const F = 59;
-const BLOCK = 768; // 100 ms blocks, a common live block size
-const BLOCKS = RATE / BLOCK;
+const BLOCKS = 10; // 100 ms blocks, a common live block size
 const FEEDERS = 500;
 const WINDOWS_PER_S = 5; // 12 cycles at 60 Hz = 200 ms
 const WINDOWS = 10_000;
 const BASELINE_FFT = 2048;
 const ROUNDS = 20;
 
-function waveform() {
-  const v = [0, 1, 2].map(() => new Float64Array(RATE));
-  const i = [0, 1, 2].map(() => new Float64Array(RATE));
-  for (let n = 0; n < RATE; n++) {
-    const th = (2 * Math.PI * F * n) / RATE;
+function waveform(rate) {
+  const v = [0, 1, 2].map(() => new Float64Array(rate));
+  const i = [0, 1, 2].map(() => new Float64Array(rate));
+  for (let n = 0; n < rate; n++) {
+    const th = (2 * Math.PI * F * n) / rate;
     for (let p = 0; p < 3; p++) {
       const ph = th - (2 * Math.PI * p) / 3;
       // ~1.5 % voltage unbalance, 5th and 7th harmonics, 30° lagging load current.
@@ -47,14 +48,16 @@ function retainedBytesPerOp(fn, iterations) {
   return (process.memoryUsage().heapUsed - before) / iterations;
 }
 
-export async function run() {
-  const { v, i } = waveform();
+/** A function that feeds one estimator with blocks of a seamless one-second ring until `n` more windows are out. */
+function estimator(rate, sink) {
+  const { v, i } = waveform(rate);
+  const BLOCK = rate / BLOCKS;
   // One mutable frame per block of the one-second ring; only ts changes between rounds.
   const frames = [];
   for (let b = 0; b < BLOCKS; b++) {
     const s = b * BLOCK, e = s + BLOCK;
     frames.push({
-      kind: 'samples', feeder: 'B1', ts: 0.5, rate: RATE, length: BLOCK,
+      kind: 'samples', feeder: 'B1', ts: 0.5, rate, length: BLOCK,
       v: [v[0].subarray(s, e), v[1].subarray(s, e), v[2].subarray(s, e)],
       i: [i[0].subarray(s, e), i[1].subarray(s, e), i[2].subarray(s, e)],
     });
@@ -63,13 +66,11 @@ export async function run() {
   const t0 = Date.UTC(2026, 0, 1);
   let block = 0;
   let windows = 0;
-  // Kept in a typed array: a number variable captured by a closure would box every update and show up as allocation.
-  const sink = new Float64Array(1);
   const emit = (w) => {
     windows++;
     sink[0] += w.v[0] + w.freq;
   };
-  const estimate = (n) => {
+  return (n) => {
     const target = windows + n;
     while (windows < target) {
       const f = frames[block % BLOCKS];
@@ -78,6 +79,13 @@ export async function run() {
       block++;
     }
   };
+}
+
+export async function run() {
+  // Kept in a typed array: a number variable captured by a closure would box every update and show up as allocation.
+  const sink = new Float64Array(1);
+  const estimate = estimator(RATE, sink);
+  const estimateFast = estimator(FAST_RATE, sink);
 
   // Baseline: one bare fft.js complex transform, Float64Array in and out.
   const fft = new FFT(BASELINE_FFT);
@@ -91,11 +99,13 @@ export async function run() {
   // Interleaved rounds, best of each: the two cores are shared, and interleaving exposes both
   // measurements to the same background load so that their ratio stays meaningful.
   bestNsPerOp(estimate, 2_000, 1);
+  bestNsPerOp(estimateFast, 500, 1);
   bestNsPerOp(bareFft, 10_000, 1);
-  let nsFft = Infinity, nsWindow = Infinity;
+  let nsFft = Infinity, nsWindow = Infinity, nsFast = Infinity;
   for (let r = 0; r < ROUNDS; r++) {
     nsFft = Math.min(nsFft, bestNsPerOp(bareFft, WINDOWS / ROUNDS, 1));
     nsWindow = Math.min(nsWindow, bestNsPerOp(estimate, WINDOWS / ROUNDS, 1));
+    nsFast = Math.min(nsFast, bestNsPerOp(estimateFast, WINDOWS / ROUNDS / 4, 1));
   }
   // Long enough that one-off costs (JIT code, inline caches) vanish in the per-window figure.
   const bytes = heapBytesPerOp(estimate, 50_000);
@@ -110,6 +120,8 @@ export async function run() {
       'ratio window / bare FFT': nsWindow / nsFft,
       [`share of one core for ${FEEDERS} feeders x ${WINDOWS_PER_S} windows/s`]: coreShare,
       [`real time for ${FEEDERS} feeders on one core`]: coreShare < 1 ? 'yes' : 'no',
+      [`ns per basic window at ${FAST_RATE} S/s (256 per cycle, anti-alias filter first)`]: nsFast,
+      [`share of one core for ${FEEDERS} feeders x ${WINDOWS_PER_S} windows/s at ${FAST_RATE} S/s`]: (nsFast * FEEDERS * WINDOWS_PER_S) / 1e9,
       'heap bytes allocated per window after warm-up': Number.isNaN(bytes) ? 'n/a (run with --expose-gc)' : bytes,
       'heap bytes retained per window (growth across forced GCs)': Number.isNaN(retained) ? 'n/a (run with --expose-gc)' : retained,
     },

@@ -5,6 +5,10 @@
  *    frequency (§4.4), windows contiguous and non-overlapping;
  *  - the frequency is tracked window by window (frequency-tracker.ts) until
  *    the window holds exactly N cycles;
+ *  - input fast enough to carry content that would alias onto harmonics
+ *    2..MAX_HARMONIC on that grid is low-pass filtered first (anti-alias.ts,
+ *    centred, so without delay); true RMS and the half-cycle RMS use the raw
+ *    samples;
  *  - the window is resampled (six-point Lagrange) to M = N·POINTS_PER_CYCLE
  *    points, so the fundamental falls exactly on DFT bin N and harmonic h on
  *    bin h·N: fundamental phasors free of leakage (§5.7.2, unbalance from the
@@ -33,6 +37,7 @@
  */
 import { AgentError } from '../errors.js';
 import type { SamplesFrame } from '../frames.js';
+import { antiAliasBands, CentredFir, kaiserLowPass } from './anti-alias.js';
 import { Fft } from './fft.js';
 import { coarseFrequencyHz, HalfWindowRefiner } from './frequency-tracker.js';
 import { LAGRANGE_TAPS_AFTER, LAGRANGE_TAPS_BEFORE, LagrangeResampler } from './lagrange-resampler.js';
@@ -129,6 +134,13 @@ export class WaveformEstimator {
   private hasV = false;
   private hasI = false;
   private buffers: Float64Array[] = [];
+  /** Anti-alias filter for this rate, or null when the rate needs none; `filtered` holds its output, aligned with `buffers`. */
+  private filter: CentredFir | null = null;
+  private filtered: Float64Array[] = [];
+  /** Half the filter length: samples the filter needs on each side (0 without a filter). */
+  private half = 0;
+  /** Next buffer index whose filtered value is not computed yet. */
+  private frontier = 0;
   private capacity = 0;
   /** Valid samples in each buffer. */
   private length = 0;
@@ -190,6 +202,7 @@ export class WaveformEstimator {
       if (frame.i !== null) for (let c = 0; c < 3; c++) copyInto(frame.i[c]!, offset, n, this.buffers[I + c]!, this.length);
       this.length += n;
       offset += n;
+      this.filterNew();
       while (this.nextWindow(emit)) {
         // one window per iteration
       }
@@ -214,20 +227,29 @@ export class WaveformEstimator {
   private restart(frame: SamplesFrame, gap: boolean): void {
     const hasV = frame.v !== null, hasI = frame.i !== null;
     if (frame.rate !== this.rate) {
-      // The buffer holds the longest window (lowest tracked frequency) plus taps, plus as much again for incoming blocks.
+      const bands = antiAliasBands(frame.rate, POINTS_PER_CYCLE, MAX_HARMONIC, this.minHz, this.maxHz);
+      this.filter = bands === null ? null : new CentredFir(kaiserLowPass(frame.rate, bands));
+      this.half = this.filter?.half ?? 0;
+      // The buffer holds the longest window (lowest tracked frequency) plus taps and the filter's reach, plus as much again for incoming blocks.
       const longest = Math.ceil((this.cycles * frame.rate) / this.minHz);
-      this.capacity = 2 * longest + 4 * (LAGRANGE_TAPS_BEFORE + LAGRANGE_TAPS_AFTER) + 16;
+      this.capacity = 2 * longest + 4 * (LAGRANGE_TAPS_BEFORE + LAGRANGE_TAPS_AFTER + this.half) + 16;
       this.buffers = [];
-      for (let c = 0; c < 6; c++) this.buffers.push(new Float64Array(this.capacity));
+      this.filtered = [];
+      for (let c = 0; c < 6; c++) {
+        this.buffers.push(new Float64Array(this.capacity));
+        if (this.filter !== null) this.filtered.push(new Float64Array(this.capacity));
+      }
     }
     this.rate = frame.rate;
     this.hasV = hasV;
     this.hasI = hasI;
     if (!hasV) for (let c = 0; c < 3; c++) this.buffers[V + c]!.fill(0);
     if (!hasI) for (let c = 0; c < 3; c++) this.buffers[I + c]!.fill(0);
+    if (this.filter !== null) for (let c = 0; c < 6; c++) this.filtered[c]!.fill(0);
     this.length = 0;
-    // The first window starts after the interpolation taps it needs before it.
-    this.start = LAGRANGE_TAPS_BEFORE;
+    // The first window starts after the interpolation taps it needs before it, and after the filter's reach.
+    this.start = LAGRANGE_TAPS_BEFORE + this.half;
+    this.frontier = this.half;
     this.dropped = 0;
     this.streamTs = frame.ts;
     this.received = 0;
@@ -237,19 +259,39 @@ export class WaveformEstimator {
     this.events?.reset();
   }
 
-  /** Drops samples no longer needed (keeps the taps before the next window). */
+  /** Drops samples no longer needed (keeps the taps before the next window, and the raw samples the filter still needs). */
   private compact(): void {
-    const drop = Math.floor(this.start) - LAGRANGE_TAPS_BEFORE;
+    let drop = Math.floor(this.start) - LAGRANGE_TAPS_BEFORE;
+    if (this.filter !== null) drop = Math.min(drop, this.frontier - this.half);
     if (drop <= 0) return;
-    for (let c = 0; c < 6; c++) this.buffers[c]!.copyWithin(0, drop, this.length);
+    for (let c = 0; c < 6; c++) {
+      this.buffers[c]!.copyWithin(0, drop, this.length);
+      if (this.filter !== null) this.filtered[c]!.copyWithin(0, drop, this.frontier);
+    }
     this.length -= drop;
     this.start -= drop;
     this.dropped += drop;
+    this.frontier -= drop;
   }
 
-  /** Samples the window [start, start + span) needs in the buffer. */
+  /** Filters the samples whose neighbourhood has now fully arrived. */
+  private filterNew(): void {
+    const filter = this.filter;
+    if (filter === null) return;
+    const to = this.length - this.half;
+    if (to <= this.frontier) return;
+    for (let c = 0; c < 6; c++) if (this.present(c)) filter.apply(this.buffers[c]!, this.filtered[c]!, this.frontier, to);
+    this.frontier = to;
+  }
+
+  /** What the resampler reads for channel c: the filtered samples when the rate needs the filter. */
+  private source(c: number): Float64Array {
+    return this.filter === null ? this.buffers[c]! : this.filtered[c]!;
+  }
+
+  /** Samples the window [start, start + span) needs in the buffer (filtered, when filtering). */
   private fits(span: number): boolean {
-    return Math.floor(this.start + span) + LAGRANGE_TAPS_AFTER + 1 <= this.length;
+    return Math.floor(this.start + span) + LAGRANGE_TAPS_AFTER + 1 <= this.length - this.half;
   }
 
   private nextWindow(emit: (w: BasicWindow) => void): boolean {
@@ -305,7 +347,7 @@ export class WaveformEstimator {
     const span = (N * rate) / f;
     if (!this.fits(span)) return false;
     if (done === 0) this.resampler.plan(this.start, span / M, M);
-    for (let c = 0; c < 6; c++) if (this.present(c) && (done & (1 << c)) === 0) this.resampler.apply(this.buffers[c]!, this.resampled[c]!);
+    for (let c = 0; c < 6; c++) if (this.present(c) && (done & (1 << c)) === 0) this.resampler.apply(this.source(c), this.resampled[c]!);
     this.spectrum(f);
     this.rawRms(span);
 
@@ -361,7 +403,7 @@ export class WaveformEstimator {
   private resampleSet(set: number, f: number, done: number): number {
     const span = (this.cycles * this.rate) / f;
     if (done === 0) this.resampler.plan(this.start, span / this.points, this.points);
-    for (let c = set; c < set + 3; c++) this.resampler.apply(this.buffers[c]!, this.resampled[c]!);
+    for (let c = set; c < set + 3; c++) this.resampler.apply(this.source(c), this.resampled[c]!);
     return done | (7 << set);
   }
 

@@ -132,6 +132,11 @@ const CASES: Case[] = [
   { name: '50 Hz ramp 49 Hz + 0.5 Hz/s with harmonics and noise, 6400 S/s', nominal: 50, rate: 6400, f0: 49, ramp: 0.5, harmonics: true, noise: 0.1, content: 1 },
   { name: '60 Hz ramp 61 Hz − 0.5 Hz/s, 7680 S/s', nominal: 60, rate: 7680, f0: 61, ramp: -0.5, content: 2 },
   { name: '60 Hz ramp 59 Hz + 0.5 Hz/s with harmonics and noise, 4000 S/s', nominal: 60, rate: 4000, f0: 59, ramp: 0.5, harmonics: true, noise: 0.1, content: 0 },
+  // Faster than the 128-point grid can take without folding: through the anti-alias filter (anti-alias.ts).
+  { name: '60 Hz at 59.91 Hz with harmonics and noise, 15360 S/s (256 per cycle)', nominal: 60, rate: 15360, f0: 59.91, harmonics: true, noise: 0.1, content: 1 },
+  { name: '60 Hz system at 69 Hz (class A upper edge), 15360 S/s', nominal: 60, rate: 15360, f0: 69, content: 0 },
+  { name: '50 Hz system at 42.5 Hz (class A lower edge), 12800 S/s (256 per cycle)', nominal: 50, rate: 12800, f0: 42.5, content: 2 },
+  { name: '50 Hz ramp 49 Hz + 0.5 Hz/s with harmonics and noise, 64000 S/s', nominal: 50, rate: 64000, f0: 49, ramp: 0.5, harmonics: true, noise: 0.1, content: 0 },
 ];
 
 function specOf(c: Case): WaveSpec {
@@ -216,6 +221,31 @@ describe('WaveformEstimator windows', () => {
       }
     }
   });
+
+  // THD counts harmonics 2..40 only (IEC 61000-4-7 / IEC 61000-4-30 §5.9 definition, from memory): content above is not
+  // part of it, and must not fold onto those harmonics when the input is sampled faster than the 128-point grid.
+  for (const [nominal, rate, f0, order] of [
+    [60, 15360, 60, 100], // 6 kHz: on the 128-point grid it would fold onto the 28th harmonic
+    [60, 15360, 59.91, 120], // 7.2 kHz, just below the input's Nyquist frequency: would fold onto the 8th
+    [50, 64000, 50, 250], // 12.5 kHz: would fold onto the 6th
+  ] as const) {
+    test(`THD ignores a 5 % ${order}th harmonic at ${rate} S/s (${nominal} Hz system): the known mix reads within 0.01 pp, |V1| within 0.05 %`, () => {
+      const s: WaveSpec = { ...specOf(CASES[8]!), rate, f0, noisePercent: 0, harmonics: [...HARMONICS, { order, percent: 5, deg: 40 }] };
+      const w = runFrames(toFrames(TS0, s.rate, makeWave(s), null, Math.round(rate / 50)), nominal);
+      const ph = phaseFromSequence(s.zero, s.pos, s.neg);
+      const hRms = s.pos.mag * Math.sqrt(HARMONICS.reduce((acc, h) => acc + (h.percent / 100) ** 2, 0));
+      const seq = new Float64Array(6);
+      expect(w.length).toBeGreaterThanOrEqual(5);
+      for (const x of w) {
+        for (let p = 0; p < 3; p++) {
+          const fund = Math.hypot(ph[2 * p]!, ph[2 * p + 1]!);
+          expect(Math.abs(x.vThd![p]! - (100 * hRms) / fund)).toBeLessThan(0.01);
+        }
+        fortescueInto(x.v!, seq);
+        expect(100 * Math.abs(Math.hypot(seq[2]!, seq[3]!) / s.pos.mag - 1)).toBeLessThan(POS_REL_PERCENT);
+      }
+    });
+  }
 
   test('true RMS includes the harmonics: √(fundamental² + Σ harmonic²) within 0.01 % (Parseval, common practice)', () => {
     const s: WaveSpec = { ...specOf(CASES[11]!), noisePercent: 0 };
