@@ -152,7 +152,10 @@ export function parseFrame(payload: string | Uint8Array, options: ValidateOption
   }
   let json: unknown;
   try {
-    json = JSON.parse(typeof payload === 'string' ? payload : Buffer.isBuffer(payload) ? payload.toString('utf8') : Buffer.from(payload.buffer, payload.byteOffset, payload.byteLength).toString('utf8'));
+    let text = typeof payload === 'string' ? payload : Buffer.isBuffer(payload) ? payload.toString('utf8') : Buffer.from(payload.buffer, payload.byteOffset, payload.byteLength).toString('utf8');
+    // A leading byte order mark (some publishers' UTF-8 encoders write one): RFC 8259 §8.1 lets a parser ignore it.
+    if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
+    json = JSON.parse(text);
   } catch (e) {
     return rejected('FRAME_NOT_JSON', null, `payload is not valid JSON (${(e as Error).message})`);
   }

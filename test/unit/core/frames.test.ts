@@ -173,3 +173,19 @@ describe('phasor sets written into caller scratch buffers', () => {
     expect(r.error.field).toBe('i.b');
   });
 });
+
+describe('a byte order mark before the JSON text', () => {
+  // RFC 8259 §8.1 (from memory): senders must not add one, parsers may ignore it; some UTF-8 encoders write it anyway.
+  it('is ignored, in a byte payload and in a string payload', () => {
+    const text = JSON.stringify(PHASOR_EXAMPLE);
+    const bytes = Buffer.concat([Buffer.from([0xef, 0xbb, 0xbf]), Buffer.from(text)]);
+    expect(parseFrame(bytes, { feeder: 'F1', kind: 'phasor' }).ok).toBe(true);
+    expect(parseFrame(`\uFEFF${text}`, { feeder: 'F1', kind: 'phasor' }).ok).toBe(true);
+  });
+
+  it('is ignored only at the start: one inside the text is still not JSON', () => {
+    const r = parseFrame(`{"ts":\uFEFF1}`, { feeder: 'F1', kind: 'phasor' });
+    expect(r.ok).toBe(false);
+    if (!r.ok) expect(r.error.code).toBe('FRAME_NOT_JSON');
+  });
+});
