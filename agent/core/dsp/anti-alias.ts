@@ -93,14 +93,18 @@ export class CentredFir {
     this.half = (taps.length - 1) / 2;
   }
 
-  /** Writes out[m] for from ≤ m < to; src must hold from − half to to − 1 + half. */
-  apply(src: Float64Array, out: Float64Array, from: number, to: number): void {
+  /**
+   * Writes out[j] for from ≤ j < to: the filter's output at src index j·step (step > 1 decimates: only
+   * every step-th output is computed). src must hold from·step − half to (to − 1)·step + half.
+   */
+  apply(src: Float64Array, out: Float64Array, from: number, to: number, step = 1): void {
     const h = this.taps, half = this.half;
     // The taps are symmetric: one multiply per pair of samples, half the work.
-    for (let m = from; m < to; m++) {
+    for (let j = from; j < to; j++) {
+      const m = j * step;
       let acc = h[half]! * src[m]!;
       for (let k = 1; k <= half; k++) acc += h[half - k]! * (src[m - k]! + src[m + k]!);
-      out[m] = acc;
+      out[j] = acc;
     }
   }
 }

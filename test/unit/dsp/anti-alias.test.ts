@@ -92,6 +92,16 @@ describe('centred FIR', () => {
     expect(() => new CentredFir(Float64Array.of(0.2, 0.5, 0.3))).toThrow(/symmetric/);
   });
 
+  test('with a step computes exactly every step-th output of the full filter (decimation)', () => {
+    const fir = new CentredFir(kaiserLowPass(64000, { passHz: 2400, stopHz: 3520 }));
+    const x = Float64Array.from({ length: 3000 }, (_, n) => Math.sin(n * 0.013) + 0.3 * Math.sin(n * 0.9));
+    const full = new Float64Array(x.length), every4 = new Float64Array(x.length);
+    fir.apply(x, full, fir.half, x.length - fir.half);
+    const from = Math.ceil(fir.half / 4), to = Math.floor((x.length - 1 - fir.half) / 4) + 1;
+    fir.apply(x, every4, from, to, 4);
+    for (let j = from; j < to; j++) expect(every4[j]).toBe(full[4 * j]);
+  });
+
   test('leaves a passband sinusoid where it was: no delay, amplitude within the passband tolerance', () => {
     const rate = 15360, f = 60 * 7;
     const fir = new CentredFir(kaiserLowPass(rate, { passHz: 2880, stopHz: 4224 }));
