@@ -153,7 +153,7 @@ export function parseFrame(payload: string | Uint8Array, options: ValidateOption
   let json: unknown;
   try {
     let text = typeof payload === 'string' ? payload : Buffer.isBuffer(payload) ? payload.toString('utf8') : Buffer.from(payload.buffer, payload.byteOffset, payload.byteLength).toString('utf8');
-    // A leading byte order mark (some publishers' UTF-8 encoders write one): RFC 8259 §8.1 lets a parser ignore it.
+    // A leading byte order mark (some publishers' UTF-8 encoders write one): RFC 8259 §8.1 lets a parser ignore it (from memory).
     if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
     json = JSON.parse(text);
   } catch (e) {

@@ -238,15 +238,15 @@ describe('OpcuaSource security (SignAndEncrypt, Basic256Sha256, user name and pa
   });
   afterAll(() => server.stop());
 
-  it('reads over SignAndEncrypt with Basic256Sha256 and a user name and password', async () => {
+  /** Connects with `security`, writes one F1 set on the server and waits for its frame. */
+  async function readsOneFrame(security: Partial<OpcuaSourceOptions>): Promise<void> {
     const sink = new CollectingSink();
     const src = new OpcuaSource(
       options(server.endpointUrl, {
-        securityMode: 'SignAndEncrypt',
-        securityPolicy: 'Basic256Sha256',
         user: { username: 'operator', password: 'fictional-pass' },
         certificateFolder: join(root, `client-sec-${port}`),
         acceptUnknownServerCertificate: true,
+        ...security,
       }),
     );
     td.add(() => src.destroy());
@@ -257,27 +257,14 @@ describe('OpcuaSource security (SignAndEncrypt, Basic256Sha256, user name and pa
     writeF1(server, t0, 0);
     await waitFor(() => sink.frames.some((f) => f.feeder === 'F1' && (f.payload as { ts: number }).ts === t0), 5_000);
     await src.close();
+  }
+
+  it('reads over SignAndEncrypt with Basic256Sha256 and a user name and password', async () => {
+    await readsOneFrame({ securityMode: 'SignAndEncrypt', securityPolicy: 'Basic256Sha256' });
   });
 
   it('reads over Sign with Aes256_Sha256_RsaPss', async () => {
-    const sink = new CollectingSink();
-    const src = new OpcuaSource(
-      options(server.endpointUrl, {
-        securityMode: 'Sign',
-        securityPolicy: 'Aes256_Sha256_RsaPss',
-        user: { username: 'operator', password: 'fictional-pass' },
-        certificateFolder: join(root, `client-sec-${port}`),
-        acceptUnknownServerCertificate: true,
-      }),
-    );
-    td.add(() => src.destroy());
-    await src.start(sink);
-    await waitFor(() => src.status().state === 'connected', 20_000);
-    await sleep(200);
-    const t0 = Date.now() + 1_000;
-    writeF1(server, t0, 0);
-    await waitFor(() => sink.frames.some((f) => f.feeder === 'F1' && (f.payload as { ts: number }).ts === t0), 5_000);
-    await src.close();
+    await readsOneFrame({ securityMode: 'Sign', securityPolicy: 'Aes256_Sha256_RsaPss' });
   });
 
   it('does not connect with a wrong password and reports why', async () => {
